@@ -1,0 +1,113 @@
+"""One mapping from domain errors to RFC 9457 problem details, used for every error the app returns."""
+
+from __future__ import annotations
+
+import logging
+from typing import Any
+
+from fastapi import FastAPI, Request
+from fastapi.exceptions import RequestValidationError
+from fastapi.responses import JSONResponse
+from starlette.exceptions import HTTPException as StarletteHTTPException
+
+from app.errors import (
+    AccessDenied,
+    InputError,
+    LimitExceeded,
+    NotFound,
+    ServiceBusy,
+    TrendAuditError,
+)
+
+PROBLEM_TYPE_BASE = "/problems/"
+PROBLEM_MEDIA_TYPE = "application/problem+json"
+log = logging.getLogger("trendaudit.api")
+
+
+def status_for(error: TrendAuditError) -> int:
+    if isinstance(error, LimitExceeded):
+        return 413 if error.body_too_large else 422
+    if isinstance(error, InputError):
+        return 422
+    if isinstance(error, AccessDenied):
+        return 401 if error.missing_credentials else 403
+    if isinstance(error, NotFound):
+        return 404
+    if isinstance(error, ServiceBusy):
+        return 503
+    return 400
+
+
+def problem_body(*, status: int, title: str, detail: str, slug: str, instance: str | None = None,
+                 **extra: Any) -> dict[str, Any]:
+    body: dict[str, Any] = {
+        "type": PROBLEM_TYPE_BASE + slug,
+        "title": title,
+        "status": status,
+        "detail": detail,
+    }
+    if instance:
+        body["instance"] = instance
+    body.update({k: v for k, v in extra.items() if v is not None})
+    return body
+
+
+def problem_for_error(error: TrendAuditError, instance: str | None = None) -> tuple[int, dict[str, Any]]:
+    status = status_for(error)
+    extra: dict[str, Any] = dict(error.extra)
+    where = error.location.as_dict()
+    if where:
+        extra["where"] = where
+    if error.fix:
+        extra["fix"] = error.fix
+    return status, problem_body(status=status, title=error.title, detail=error.detail, slug=error.slug,
+                                instance=instance, **extra)
+
+
+def problem_response(status: int, body: dict[str, Any], headers: dict[str, str] | None = None) -> JSONResponse:
+    return JSONResponse(body, status_code=status, media_type=PROBLEM_MEDIA_TYPE, headers=headers)
+
+
+def _validation_where(loc: tuple[Any, ...]) -> str:
+    # ("body", "claim", "start") -> "claim.start"; drop the transport part of the location.
+    parts = [str(p) for p in loc if p not in ("body", "query", "path", "header")]
+    return ".".join(parts) if parts else "request"
+
+
+def install_problem_handlers(app: FastAPI) -> None:
+    @app.exception_handler(TrendAuditError)
+    async def _domain(request: Request, error: TrendAuditError) -> JSONResponse:
+        status, body = problem_for_error(error, instance=request.url.path)
+        headers = {"Retry-After": str(error.retry_after)} if isinstance(error, ServiceBusy) else None
+        return problem_response(status, body, headers)
+
+    @app.exception_handler(RequestValidationError)
+    async def _validation(request: Request, error: RequestValidationError) -> JSONResponse:
+        faults = [
+            {"field": _validation_where(tuple(e.get("loc", ()))), "message": e.get("msg", "invalid")}
+            for e in error.errors()
+        ]
+        first = faults[0] if faults else {"field": "request", "message": "invalid request"}
+        body = problem_body(
+            status=422, title="The request is not valid", slug="invalid-request",
+            detail=f"field '{first['field']}': {first['message']}", instance=request.url.path,
+            where={"field": first["field"]}, errors=faults,
+        )
+        return problem_response(422, body)
+
+    @app.exception_handler(StarletteHTTPException)
+    async def _http(request: Request, error: StarletteHTTPException) -> JSONResponse:
+        title = {404: "Not found", 405: "Method not allowed", 413: "Request body too large"}.get(
+            error.status_code, "Request failed")
+        body = problem_body(status=error.status_code, title=title, detail=str(error.detail),
+                            slug="http-" + str(error.status_code), instance=request.url.path)
+        return problem_response(error.status_code, body, getattr(error, "headers", None))
+
+    @app.exception_handler(Exception)
+    async def _unexpected(request: Request, error: Exception) -> JSONResponse:
+        # Log the trace for operators; never send it, or a path, to the client.
+        log.exception("unexpected error on %s %s", request.method, request.url.path)
+        body = problem_body(status=500, title="Internal error", slug="internal",
+                            detail="Something went wrong on our side; the request was not stored.",
+                            instance=request.url.path)
+        return problem_response(500, body)

@@ -1,0 +1,137 @@
+"""The domain's errors, in one short hierarchy.
+
+    TrendAuditError                 anything this project raises on purpose
+    ├── InputError                  the caller sent something we cannot use (HTTP 400/422)
+    │   ├── SeriesFormatError       a file or field that cannot be read (a bad number, date, column)
+    │   ├── SeriesContentError      readable, but unusable as a series (too short, constant, unsorted)
+    │   ├── ClaimError              the claimed window or options do not fit the series
+    │   └── LimitExceeded           bigger than the service allows (413 for bodies, else 422)
+    ├── AccessDenied                a missing or wrong API key or owner token (401/403)
+    ├── NotFound                    no audit or sample with that name (404)
+    └── ServiceBusy                 the compute pool is full; try again later (503 + Retry-After)
+
+Every input error says *where* (a row, a column, a field) and *what to fix*, so a newsroom
+script can point at the cell and a person can correct it. The HTTP mapping lives in one
+place, ``app.api.problems``; nothing below the API knows about status codes.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+
+@dataclass(frozen=True)
+class Location:
+    """Where in the input a fault sits. Any field may be absent."""
+
+    row: int | None = None  # 1-based line of the file, header being row 1
+    column: str | None = None  # column name as written in the header
+    field: str | None = None  # JSON pointer-ish path: "series.time[3]", "claim.start"
+
+    def describe(self) -> str:
+        parts = []
+        if self.row is not None:
+            parts.append(f"row {self.row}")
+        if self.column is not None:
+            parts.append(f"column '{self.column}'")
+        if self.field is not None:
+            parts.append(f"field '{self.field}'")
+        return ", ".join(parts)
+
+    def as_dict(self) -> dict[str, Any]:
+        return {k: v for k, v in (("row", self.row), ("column", self.column), ("field", self.field)) if v is not None}
+
+
+class TrendAuditError(Exception):
+    """Base of every error raised on purpose by Trend Audit."""
+
+    title = "Trend Audit error"
+    slug = "error"
+
+    def __init__(self, message: str, *, location: Location | None = None, fix: str | None = None,
+                 extra: dict[str, Any] | None = None) -> None:
+        self.message = message
+        self.location = location or Location()
+        self.fix = fix
+        self.extra = dict(extra or {})
+        super().__init__(self.detail)
+
+    @property
+    def detail(self) -> str:
+        where = self.location.describe()
+        text = f"{where}: {self.message}" if where else self.message
+        if self.fix:
+            text = f"{text}. {self.fix}"
+        return text
+
+
+class InputError(TrendAuditError):
+    title = "The input cannot be used"
+    slug = "invalid-input"
+
+
+class SeriesFormatError(InputError):
+    title = "The series could not be read"
+    slug = "unreadable-series"
+
+
+class SeriesContentError(InputError):
+    title = "The series cannot be audited"
+    slug = "unusable-series"
+
+
+class ClaimError(InputError):
+    title = "The claim does not fit the series"
+    slug = "invalid-claim"
+
+
+class LimitExceeded(InputError):
+    title = "The request is larger than this service allows"
+    slug = "limit-exceeded"
+
+    def __init__(self, message: str, *, body_too_large: bool = False, **kwargs: Any) -> None:
+        self.body_too_large = body_too_large
+        super().__init__(message, **kwargs)
+
+
+class AccessDenied(TrendAuditError):
+    title = "Not allowed"
+    slug = "access-denied"
+
+    def __init__(self, message: str, *, missing_credentials: bool = True, **kwargs: Any) -> None:
+        self.missing_credentials = missing_credentials
+        super().__init__(message, **kwargs)
+
+
+class NotFound(TrendAuditError):
+    title = "Not found"
+    slug = "not-found"
+
+
+class ServiceBusy(TrendAuditError):
+    title = "The service is busy"
+    slug = "busy"
+
+    def __init__(self, message: str, *, retry_after: int = 5, **kwargs: Any) -> None:
+        self.retry_after = retry_after
+        super().__init__(message, **kwargs)
+
+
+@dataclass
+class ErrorCollector:
+    """Gathers several input faults so a user can fix them in one pass; raises the first kind."""
+
+    errors: list[InputError] = field(default_factory=list)
+
+    def add(self, error: InputError) -> None:
+        self.errors.append(error)
+
+    def raise_if_any(self) -> None:
+        if self.errors:
+            first = self.errors[0]
+            if len(self.errors) > 1:
+                first.extra.setdefault("errors", [
+                    {"detail": e.detail, **e.location.as_dict()} for e in self.errors[:50]
+                ])
+            raise first

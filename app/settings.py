@@ -1,0 +1,54 @@
+"""All configuration in one object, read from TRENDAUDIT_* environment variables.
+
+The app receives a Settings instance through ``create_app(settings)``; tests build their own.
+Nothing here opens a connection or touches the disk.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from pydantic import Field, field_validator
+from pydantic_settings import BaseSettings, SettingsConfigDict
+
+PROJECT_ROOT = Path(__file__).resolve().parent.parent
+
+
+class Settings(BaseSettings):
+    model_config = SettingsConfigDict(env_prefix="TRENDAUDIT_", extra="ignore")
+
+    database_url: str = Field(
+        default=f"sqlite:///{PROJECT_ROOT / 'var' / 'trendaudit.sqlite3'}",
+        description="SQLAlchemy URL: sqlite:///path or postgresql+psycopg://user@host/db",
+    )
+    api_keys: str = Field(default="", description="Comma-separated keys; when set, creating, listing and deleting need one.")
+    host: str = "127.0.0.1"
+    port: int = 8000
+    public_base_url: str = ""
+
+    # Limits, enforced where input enters.
+    max_upload_bytes: int = 5 * 1024 * 1024
+    max_points: int = 200_000
+    max_simulations: int = 20_000
+    max_string_length: int = 2_000
+    request_timeout_seconds: float = 60.0
+
+    # Statistics defaults.
+    default_simulations: int = 2_000
+    default_confidence: float = 0.95
+    default_noise: str = "ar1"
+
+    # Compute pool: CPU-bound audits run here, off the event loop.
+    compute_workers: int = 2
+    compute_queue: int = 8
+
+    samples_dir: Path = PROJECT_ROOT / "sample_series"
+
+    @field_validator("api_keys")
+    @classmethod
+    def _strip(cls, value: str) -> str:
+        return value.strip()
+
+    @property
+    def api_key_list(self) -> list[str]:
+        return [k.strip() for k in self.api_keys.split(",") if k.strip()]
