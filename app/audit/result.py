@@ -1,0 +1,69 @@
+"""The audit's result: every analysis once, as frozen dataclasses; JSON, HTML and CSV are renderings of it."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+from app.audit.claim import AuditOptions, Claim
+from app.audit.reference import ReferencePeriod
+from app.audit.verdict import Verdict, VerdictInputs
+from app.ingest.series import Series
+
+
+@dataclass(frozen=True)
+class RobustnessRow:
+    method: str
+    window_slope: float
+    window_ci: tuple[float, float]
+    long_term_slope: float
+    long_term_ci: tuple[float, float]
+    p_window_vs_long_term: float
+    change_p_adjusted: float
+    code: str
+    holds: bool
+
+
+@dataclass(frozen=True)
+class WholeRecordCheck:
+    same_as_reference: bool
+    long_term_slope: float
+    long_term_ci: tuple[float, float]
+    p_window_vs_long_term: float
+    change_p_adjusted: float
+    code: str
+
+
+@dataclass(frozen=True)
+class AuditResult:
+    series: Series
+    claim: Claim
+    options: AuditOptions
+    seed: int
+    software_version: str
+    reference: ReferencePeriod
+    long_term: Any  # stats.trend.TrendSummary
+    noise: Any  # stats.noise.NoiseModel
+    window: Any  # stats.trend.SlopeEstimate
+    window_fit: Any  # stats.ols.TrendFit
+    window_weaker: Any  # stats.trend.SlopeComparison
+    window_stronger: Any
+    hinge: Any  # stats.breaks.BreakTest
+    broken: Any
+    sup_f: Any  # stats.breaks.SupFTest
+    sup_f_broken: Any
+    segmentation: Any  # stats.segment.Segmentation (continuous)
+    segmentation_discontinuous: Any
+    spell: Any  # stats.spells.SpellResult
+    sensitivity: Any  # stats.sensitivity.SensitivityMatrix
+    endpoints: Any  # stats.sensitivity.EndpointCheck
+    years_to_detect: float
+    window_power: float
+    detect_curve: tuple[tuple[float, float], ...]
+    window_mann_kendall: Any
+    window_sen: Any
+    robustness: tuple[RobustnessRow, ...]
+    whole_record: WholeRecordCheck
+    verdict: Verdict
+    verdict_inputs: VerdictInputs
+    elapsed_seconds: float

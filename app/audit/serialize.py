@@ -1,0 +1,153 @@
+"""One serialiser: the AuditResult as a JSON-ready document.
+
+The API answers with this document, the store keeps it, and the HTML report and CSV export render
+from it, so a report can be rebuilt years later from what was stored.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from typing import Any
+
+import numpy as np
+from scipy import stats as _scipy_stats
+
+from app.audit.claim import RATE_UNITS
+from app.audit.result import AuditResult
+
+DOCUMENT_SCHEMA = "trendaudit.audit/1"
+HISTOGRAM_BINS = 40
+
+
+def jsonable(value: Any) -> Any:
+    """Numbers, tuples, arrays and dataclasses to plain JSON; NaN and infinities become null."""
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        return {f.name: jsonable(getattr(value, f.name)) for f in dataclasses.fields(value)}
+    if isinstance(value, dict):
+        return {str(k): jsonable(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [jsonable(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return jsonable(value.tolist())
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        value = float(value)
+        return value if math.isfinite(value) else None
+    return value
+
+
+def _estimate(e) -> dict[str, Any]:
+    return {"method": e.method, "slope": e.slope, "stderr": e.stderr, "ci": list(e.ci), "p_value": e.p_value,
+            "n": e.n, "n_effective": e.n_effective, "dof": e.dof}
+
+
+def _histogram(values: np.ndarray) -> dict[str, Any]:
+    values = np.asarray(values, dtype=float)
+    values = values[np.isfinite(values)]
+    if values.size == 0:
+        return {"edges": [], "counts": []}
+    counts, edges = np.histogram(values, bins=HISTOGRAM_BINS)
+    return {"edges": edges, "counts": counts}
+
+
+def _band(t: np.ndarray, fit, stderr: float, confidence: float, dof: float) -> dict[str, Any]:
+    """The fitted line with a pointwise confidence band, the level's error inflated like the slope's."""
+    inflation = stderr / fit.slope_stderr_white if fit.slope_stderr_white > 0 else 1.0
+    tc = t - fit.t_mean
+    level_var = (fit.residual_sd ** 2) / fit.n * inflation ** 2
+    se = np.sqrt(level_var + tc ** 2 * stderr ** 2)
+    crit = float(_scipy_stats.t.ppf(0.5 + confidence / 2, max(dof, 1.0)))
+    line = fit.line(t)
+    return {"time": t, "value": line, "lower": line - crit * se, "upper": line + crit * se}
+
+
+def _break(b) -> dict[str, Any]:
+    return {"model": b.model, "break_time": b.break_time, "slope_before": b.slope_before,
+            "slope_after": b.slope_after, "slope_change": b.slope_change, "level_change": b.level_change,
+            "stat": b.stat, "t_change": b.t_change, "p_value_nominal": b.p_value_nominal,
+            "p_value_two_sided": b.p_value_two_sided, "direction": b.direction}
+
+
+def _sup(s) -> dict[str, Any] | None:
+    if s is None:
+        return None
+    return {"model": s.model, "stat_at_claim": s.stat_at_claim, "sup_stat": s.sup_stat, "argmax_time": s.argmax_time,
+            "p_value_adjusted": s.p_value_adjusted, "p_value_sup": s.p_value_sup,
+            "critical_values": s.critical_values, "n_simulations": s.n_simulations, "trim": s.trim,
+            "null_max_histogram": _histogram(s.null_max)}
+
+
+def _segmentation(seg) -> dict[str, Any]:
+    return {"form": seg.form, "breakpoints": list(seg.breakpoints),
+            "breakpoint_ranges": [list(r) for r in seg.breakpoint_ranges], "n_breaks": seg.n_breaks,
+            "segments": [{"start": s.start, "end": s.end, "slope": s.slope, "slope_ci": list(s.slope_ci)}
+                         for s in seg.segments],
+            "criterion": {str(k): v for k, v in seg.criterion.items()}, "fitted": seg.fitted}
+
+
+def audit_document(result: AuditResult) -> dict[str, Any]:
+    r = result
+    series, claim, options = r.series, r.claim, r.options
+    lt = r.long_term
+    in_ref = (series.time >= r.reference.start) & (series.time <= r.reference.end)
+    in_win = (series.time >= claim.start) & (series.time <= claim.end)
+    says_faster = claim.says_faster
+    doc = {
+        "schema": DOCUMENT_SCHEMA,
+        "software_version": r.software_version,
+        "seed": r.seed,
+        "inputs": {"sha256": series.sha256(), "n": series.n, "start": series.start, "end": series.end,
+                   "sampling": series.sampling, "label": series.label, "units": series.units,
+                   "missing": len(series.missing_times), "notes": list(series.notes)},
+        "claim": {"start": claim.start, "end": claim.end, "kind": claim.kind},
+        "options": dataclasses.asdict(options),
+        "rate": {"unit": options.rate_unit, "factor": RATE_UNITS[options.rate_unit]},
+        "verdict": {"code": r.verdict.code, "headline": r.verdict.headline, "summary": r.verdict.summary,
+                    "reasons": list(r.verdict.reasons), "what_would_change": list(r.verdict.what_would_change)},
+        "reference": {"start": r.reference.start, "end": r.reference.end, "how": r.reference.how,
+                      "note": r.reference.note, "n": int(in_ref.sum())},
+        "long_term": {**_estimate(lt.chosen), "r_squared": lt.fit.r_squared, "confidence": lt.chosen.confidence,
+                      "methods": [_estimate(m) for m in lt.methods],
+                      "mann_kendall": {"p_value": lt.mann_kendall.p_value, "z": lt.mann_kendall.z,
+                                       "trend": lt.mann_kendall.trend, "sen_slope": lt.sen.slope,
+                                       "sen_ci": list(lt.sen.ci)}},
+        "noise": {"kind": r.noise.kind, "phi": r.noise.phi, "theta": r.noise.theta, "sigma": r.noise.sigma,
+                  "r1": r.noise.r1, "marginal_sd": r.noise.marginal_sd},
+        "window": {**_estimate(r.window), "start": claim.start, "end": claim.end,
+                   "first_time": float(series.time[in_win][0]), "last_time": float(series.time[in_win][-1]),
+                   "p_value_vs_zero": r.window.p_value,
+                   "p_value_vs_long_term": (r.window_stronger if says_faster else r.window_weaker).p_value,
+                   "p_value_weaker": r.window_weaker.p_value, "p_value_stronger": r.window_stronger.p_value,
+                   "mann_kendall": {"p_value": r.window_mann_kendall.p_value, "z": r.window_mann_kendall.z,
+                                    "trend": r.window_mann_kendall.trend, "tau": r.window_mann_kendall.tau},
+                   "sen": {"slope": r.window_sen.slope, "ci": list(r.window_sen.ci)}},
+        "trend_change": {"p_value_nominal": r.hinge.p_value_nominal, "p_value_adjusted": r.sup_f.p_value_adjusted,
+                         "direction": r.hinge.direction, "hinge": _break(r.hinge), "broken": _break(r.broken),
+                         "sup_f": _sup(r.sup_f), "sup_f_broken": _sup(r.sup_f_broken)},
+        "spell": {"probability": r.spell.probability, "probability_single_window": r.spell.probability_single_window,
+                  "expected_count": r.spell.expected_count, "observed_count": r.spell.observed_count,
+                  "observed_slope": r.spell.observed_slope, "window_points": r.spell.window_points,
+                  "direction": r.spell.direction, "null_slope": r.spell.null_slope,
+                  "n_simulations": r.spell.n_simulations,
+                  "histogram": _histogram(r.spell.simulated_slopes_sample),
+                  "extremes_histogram": _histogram(r.spell.simulated_extremes)},
+        "segments": {**_segmentation(r.segmentation), "discontinuous": _segmentation(r.segmentation_discontinuous)},
+        "cherry_pick": {"start_times": r.sensitivity.start_times, "end_times": r.sensitivity.end_times,
+                        "slopes": r.sensitivity.slopes, "claimed_slope": r.sensitivity.claimed_slope,
+                        "claimed_rank_percentile": r.sensitivity.claimed_rank_percentile,
+                        "endpoints": jsonable(r.endpoints)},
+        "detectability": {"years_to_detect": r.years_to_detect, "window_years": claim.end - claim.start,
+                          "power": r.window_power, "curve": [{"years": a, "power": b} for a, b in r.detect_curve]},
+        "robustness": [jsonable(row) for row in r.robustness],
+        "whole_record": jsonable(r.whole_record),
+        "curves": {"time": series.time, "value": series.value,
+                   "reference_line": _band(series.time[in_ref], lt.fit, lt.chosen.stderr, options.confidence,
+                                           lt.chosen.dof),
+                   "window_line": _band(series.time[in_win], r.window_fit, r.window.stderr, options.confidence,
+                                        r.window.dof)},
+    }
+    return jsonable(doc)

@@ -1,0 +1,82 @@
+"""The verdict's precedence and wording, on constructed inputs (one case per code)."""
+
+import dataclasses
+
+import pytest
+
+from app.audit.verdict import (
+    CHANGE_SUPPORTED,
+    CONSISTENT,
+    CONTRADICTED,
+    NO_TREND,
+    TOO_SHORT,
+    VERDICT_CODES,
+    VerdictInputs,
+    decide,
+    decide_code,
+    format_rate,
+)
+
+BASE = VerdictInputs(
+    kind="pause", window_start=1998.0, window_end=2013.0, window_points=16, alpha=0.05,
+    long_term_slope=0.018, long_term_ci=(0.014, 0.022), long_term_p=1e-9,
+    window_slope=0.004, window_ci=(-0.01, 0.018), window_p_vs_zero=0.5,
+    window_p_weaker=0.04, window_p_stronger=0.96, change_p_nominal=0.03, change_p_adjusted=0.4,
+    spell_probability=0.6, years_to_detect=12.0, units="°C",
+)
+
+
+def case(**changes):
+    return dataclasses.replace(BASE, **changes)
+
+
+@pytest.mark.parametrize(
+    "inputs, code",
+    [
+        (BASE, CONSISTENT),
+        (case(years_to_detect=25.0), TOO_SHORT),
+        (case(window_points=5, window_end=2002.0), TOO_SHORT),
+        (case(long_term_p=0.2), NO_TREND),
+        (case(window_slope=0.03, window_ci=(0.01, 0.05), window_p_vs_zero=0.001), CONTRADICTED),
+        (case(change_p_adjusted=0.01, window_slope=-0.01), CHANGE_SUPPORTED),
+        # A significant adjusted test but a window that moved the other way does not support a pause.
+        (case(change_p_adjusted=0.01, window_slope=0.03), CONSISTENT),
+        # Acceleration: supported only by a steeper window, contradicted by a significantly slower one.
+        (case(kind="acceleration", window_slope=0.04, change_p_adjusted=0.01), CHANGE_SUPPORTED),
+        (case(kind="acceleration", window_slope=0.002, window_p_weaker=0.01), CONTRADICTED),
+        # A falling series: a "recovery" (reversal) is a rise in slope.
+        (case(kind="reversal", long_term_slope=-0.05, window_slope=0.02, change_p_adjusted=0.02), CHANGE_SUPPORTED),
+        (case(kind="reversal", long_term_slope=-0.05, window_slope=-0.08, window_p_vs_zero=0.001), CONTRADICTED),
+    ],
+)
+def test_each_code_from_a_constructed_case(inputs, code):
+    assert decide_code(inputs) == code
+
+
+def test_no_trend_takes_precedence_over_everything():
+    assert decide_code(case(long_term_p=0.5, change_p_adjusted=0.001, window_p_vs_zero=0.001)) == NO_TREND
+
+
+def test_every_code_has_a_headline_and_a_short_summary():
+    cases = [BASE, case(years_to_detect=25.0), case(long_term_p=0.2),
+             case(window_slope=0.03, window_p_vs_zero=0.001), case(change_p_adjusted=0.01, window_slope=-0.01)]
+    seen = set()
+    for inputs in cases:
+        verdict = decide(inputs)
+        seen.add(verdict.code)
+        assert verdict.headline and len(verdict.headline) < 120
+        sentences = [s for s in verdict.summary.split(". ") if s.strip()]
+        assert 2 <= len(sentences) <= 4, verdict.summary
+        assert "nan" not in verdict.summary.lower()
+    assert seen == set(VERDICT_CODES)
+
+
+def test_wording_is_hedged_not_attribution():
+    for inputs in (BASE, case(change_p_adjusted=0.01, window_slope=-0.01)):
+        text = decide(inputs).summary.lower()
+        assert "proves" not in text and "caused" not in text
+
+
+def test_rates_are_shown_in_the_chosen_unit():
+    assert format_rate(0.018, 10.0, "per decade", "°C") == "+0.18 °C per decade"
+    assert format_rate(-0.0042, 100.0, "per century") == "-0.42 per century"
