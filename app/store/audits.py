@@ -1,0 +1,188 @@
+"""The audits repository: create, read, list newest first, delete with the owner's token.
+
+Ids carry 128 bits or more of randomness (the link is the capability to read). The owner token is
+shown once at creation; only its SHA-256 is stored, and checks compare digests in constant time.
+"""
+
+from __future__ import annotations
+
+import base64
+import hashlib
+import hmac
+import secrets
+from dataclasses import dataclass
+from datetime import datetime, timezone
+from typing import Any
+
+import sqlalchemy as sa
+from sqlalchemy import Engine
+
+from app.errors import AccessDenied, InputError, Location, NotFound
+from app.store.engine import write_options
+
+ID_BYTES = 18  # 144 bits, 24 URL-safe characters
+OWNER_TOKEN_BYTES = 32
+MAX_PAGE_SIZE = 100
+
+# The schema itself lives in the migrations; this names the columns the queries use, with the types
+# that need converting on the way in and out (JSON documents, timezone-aware times).
+audits_table = sa.table(
+    "audits",
+    sa.column("seq", sa.BigInteger), sa.column("id", sa.String), sa.column("kind", sa.String),
+    sa.column("title", sa.Text), sa.column("created_at", sa.DateTime(timezone=True)),
+    sa.column("input_sha256", sa.String), sa.column("seed", sa.BigInteger),
+    sa.column("software_version", sa.String), sa.column("owner_token_sha256", sa.String),
+    sa.column("summary", sa.JSON), sa.column("input_document", sa.JSON), sa.column("result_document", sa.JSON),
+)
+
+
+def new_audit_id() -> str:
+    return secrets.token_urlsafe(ID_BYTES)
+
+
+def token_digest(token: str) -> str:
+    return hashlib.sha256(token.encode("utf-8")).hexdigest()
+
+
+@dataclass(frozen=True)
+class NewAudit:
+    """What the caller hands over to be stored; id, time and owner token are made here."""
+
+    title: str
+    input_document: dict[str, Any]
+    result_document: dict[str, Any]
+    input_sha256: str
+    seed: int | None
+    software_version: str
+    summary: dict[str, Any]
+    kind: str = "audit"
+
+
+@dataclass(frozen=True)
+class AuditSummary:
+    id: str
+    kind: str
+    title: str
+    created_at: datetime
+    summary: dict[str, Any]
+
+
+@dataclass(frozen=True)
+class AuditRecord:
+    id: str
+    kind: str
+    title: str
+    created_at: datetime
+    input_sha256: str
+    seed: int | None
+    software_version: str
+    summary: dict[str, Any]
+    input_document: dict[str, Any]
+    result_document: dict[str, Any]
+
+
+@dataclass(frozen=True)
+class Page:
+    items: tuple[AuditSummary, ...]
+    next_cursor: str | None
+
+
+def _utc(moment: datetime) -> datetime:
+    # SQLite hands back naive datetimes; every stored time was written in UTC.
+    return moment.replace(tzinfo=timezone.utc) if moment.tzinfo is None else moment.astimezone(timezone.utc)
+
+
+def encode_cursor(seq: int) -> str:
+    return base64.urlsafe_b64encode(f"s{seq}".encode()).decode().rstrip("=")
+
+
+def decode_cursor(cursor: str) -> int:
+    bad = InputError("the page cursor is not one this service handed out", location=Location(field="cursor"),
+                     fix="Use the next_cursor value from the previous page, or leave the cursor out")
+    try:
+        text = base64.urlsafe_b64decode(cursor + "=" * (-len(cursor) % 4)).decode()
+    except (ValueError, UnicodeDecodeError):
+        raise bad from None
+    if not (text.startswith("s") and text[1:].isdigit()):
+        raise bad
+    return int(text[1:])
+
+
+class AuditRepository:
+    def __init__(self, engine: Engine) -> None:
+        self.engine = engine
+
+    def create(self, audit: NewAudit) -> tuple[AuditRecord, str]:
+        """Stores the audit in one committed transaction; returns the record and the owner token (once)."""
+        owner_token = secrets.token_urlsafe(OWNER_TOKEN_BYTES)
+        created_at = datetime.now(timezone.utc)
+        audit_id = new_audit_id()
+        row = {
+            "id": audit_id, "kind": audit.kind, "title": audit.title, "created_at": created_at,
+            "input_sha256": audit.input_sha256, "seed": audit.seed, "software_version": audit.software_version,
+            "owner_token_sha256": token_digest(owner_token), "summary": audit.summary,
+            "input_document": audit.input_document, "result_document": audit.result_document,
+        }
+        with self.engine.connect().execution_options(**write_options(self.engine)) as connection:
+            with connection.begin():
+                connection.execute(audits_table.insert().values(**row))
+        record = AuditRecord(id=audit_id, kind=audit.kind, title=audit.title, created_at=created_at,
+                             input_sha256=audit.input_sha256, seed=audit.seed,
+                             software_version=audit.software_version, summary=audit.summary,
+                             input_document=audit.input_document, result_document=audit.result_document)
+        return record, owner_token
+
+    def get(self, audit_id: str) -> AuditRecord:
+        t = audits_table
+        query = sa.select(t.c.id, t.c.kind, t.c.title, t.c.created_at, t.c.input_sha256, t.c.seed,
+                          t.c.software_version, t.c.summary, t.c.input_document, t.c.result_document
+                          ).where(t.c.id == audit_id)
+        with self.engine.connect() as connection:
+            row = connection.execute(query).mappings().first()
+        if row is None:
+            raise _not_found(audit_id)
+        return AuditRecord(**{**row, "created_at": _utc(row["created_at"])})
+
+    def list(self, *, limit: int = 20, cursor: str | None = None, kind: str | None = None) -> Page:
+        """Newest first. The cursor is opaque to callers: it marks where the previous page stopped."""
+        if not 1 <= limit <= MAX_PAGE_SIZE:
+            raise InputError(f"limit {limit} is outside 1..{MAX_PAGE_SIZE}", location=Location(field="limit"),
+                             fix=f"Ask for between 1 and {MAX_PAGE_SIZE} audits per page")
+        t = audits_table
+        query = sa.select(t.c.seq, t.c.id, t.c.kind, t.c.title, t.c.created_at, t.c.summary)
+        if cursor is not None:
+            query = query.where(t.c.seq < decode_cursor(cursor))
+        if kind is not None:
+            query = query.where(t.c.kind == kind)
+        query = query.order_by(t.c.seq.desc()).limit(limit + 1)
+        with self.engine.connect() as connection:
+            rows = connection.execute(query).mappings().all()
+        items = tuple(AuditSummary(id=r["id"], kind=r["kind"], title=r["title"], created_at=_utc(r["created_at"]),
+                                   summary=r["summary"]) for r in rows[:limit])
+        next_cursor = encode_cursor(rows[limit - 1]["seq"]) if len(rows) > limit else None
+        return Page(items=items, next_cursor=next_cursor)
+
+    def delete(self, audit_id: str, owner_token: str | None) -> None:
+        """Deletes the audit if the token is its owner's; the check and the delete share one transaction."""
+        if not owner_token:
+            raise AccessDenied("deleting an audit needs its owner token", location=Location(field="X-Owner-Token"),
+                               fix="Send the owner_token you received when the audit was created in the "
+                                   "X-Owner-Token header")
+        t = audits_table
+        with self.engine.connect().execution_options(**write_options(self.engine)) as connection:
+            with connection.begin():
+                stored = connection.execute(
+                    sa.select(t.c.owner_token_sha256).where(t.c.id == audit_id).with_for_update()).scalar()
+                if stored is None:
+                    raise _not_found(audit_id)
+                if not hmac.compare_digest(stored.encode(), token_digest(owner_token).encode()):
+                    raise AccessDenied("the owner token does not match this audit", missing_credentials=False,
+                                       location=Location(field="X-Owner-Token"),
+                                       fix="Send the owner_token returned when this audit was created")
+                connection.execute(t.delete().where(t.c.id == audit_id))
+
+
+def _not_found(audit_id: str) -> NotFound:
+    shown = audit_id if len(audit_id) <= 64 else audit_id[:64] + "..."
+    return NotFound(f"no audit with id '{shown}'", location=Location(field="id"),
+                    fix="Check the link; a deleted audit is gone for good")

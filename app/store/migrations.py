@@ -1,0 +1,101 @@
+"""Versioned schema migrations, applied at start-up.
+
+Each migration is a function of an open connection, listed once in ``MIGRATIONS`` with its version;
+a version, once released, is never edited, only followed by a new one. ``schema_version`` records what
+has been applied. Two processes starting together are serialised: PostgreSQL by a transaction-scoped
+advisory lock, SQLite by ``BEGIN IMMEDIATE`` (the database's write lock); the loser then sees the
+winner's rows and applies nothing.
+"""
+
+from __future__ import annotations
+
+import logging
+from collections.abc import Callable
+from dataclasses import dataclass
+from datetime import datetime, timezone
+
+import sqlalchemy as sa
+from sqlalchemy import Connection, Engine
+
+from app.store.engine import write_options
+
+log = logging.getLogger("trendaudit.store")
+
+# Any fixed 64-bit number works; it only has to differ from other applications' locks on the same server.
+MIGRATION_LOCK_KEY = 0x7472656E64617564  # "trendaud"
+
+schema_version = sa.Table(
+    "schema_version", sa.MetaData(),
+    sa.Column("version", sa.Integer, primary_key=True, autoincrement=False),
+    sa.Column("description", sa.String(200), nullable=False),
+    sa.Column("applied_at", sa.DateTime(timezone=True), nullable=False),
+)
+
+
+def _v1_audits(connection: Connection) -> None:
+    # A frozen copy of the table as version 1 made it; later changes go in later migrations.
+    metadata = sa.MetaData()
+    big_id = sa.BigInteger().with_variant(sa.Integer(), "sqlite")  # SQLite autoincrements only INTEGER keys
+    sa.Table(
+        "audits", metadata,
+        sa.Column("seq", big_id, primary_key=True, autoincrement=True),
+        sa.Column("id", sa.String(64), nullable=False, unique=True),
+        sa.Column("kind", sa.String(32), nullable=False),
+        sa.Column("title", sa.Text, nullable=False),
+        sa.Column("created_at", sa.DateTime(timezone=True), nullable=False),
+        sa.Column("input_sha256", sa.String(64), nullable=False),
+        sa.Column("seed", sa.BigInteger, nullable=True),
+        sa.Column("software_version", sa.String(64), nullable=False),
+        sa.Column("owner_token_sha256", sa.String(64), nullable=False),
+        sa.Column("summary", sa.JSON, nullable=False),
+        sa.Column("input_document", sa.JSON, nullable=False),
+        sa.Column("result_document", sa.JSON, nullable=False),
+        sa.Index("ix_audits_kind_seq", "kind", "seq"),
+        sa.Index("ix_audits_input_sha256", "input_sha256"),
+    )
+    metadata.create_all(connection)
+
+
+@dataclass(frozen=True)
+class Migration:
+    version: int
+    description: str
+    apply: Callable[[Connection], None]
+
+
+MIGRATIONS: tuple[Migration, ...] = (
+    Migration(1, "audits table: inputs, seed, version, result, owner token hash", _v1_audits),
+)
+
+
+def _lock(connection: Connection) -> None:
+    if connection.dialect.name == "postgresql":
+        connection.execute(sa.text("SELECT pg_advisory_xact_lock(:key)"), {"key": MIGRATION_LOCK_KEY})
+
+
+def current_version(engine: Engine) -> int:
+    with engine.connect() as connection:
+        if not sa.inspect(connection).has_table("schema_version"):
+            return 0
+        return int(connection.execute(sa.select(sa.func.coalesce(sa.func.max(schema_version.c.version), 0)))
+                   .scalar_one())
+
+
+def migrate(engine: Engine, migrations: tuple[Migration, ...] = MIGRATIONS) -> list[int]:
+    """Brings the schema up to the newest version in one transaction; returns the versions applied."""
+    applied: list[int] = []
+    with engine.connect().execution_options(**write_options(engine)) as connection, connection.begin():
+        _lock(connection)
+        schema_version.create(connection, checkfirst=True)
+        done = set(connection.execute(sa.select(schema_version.c.version)).scalars())
+        for migration in sorted(migrations, key=lambda m: m.version):
+            if migration.version in done:
+                continue
+            migration.apply(connection)
+            connection.execute(schema_version.insert().values(
+                version=migration.version, description=migration.description,
+                applied_at=datetime.now(timezone.utc)))
+            applied.append(migration.version)
+    if applied:
+        log.info("database schema migrated to version %d", applied[-1])
+    return applied
