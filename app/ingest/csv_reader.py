@@ -1,7 +1,8 @@
 """Reading a series from CSV text: the table a preview shows, and the Series an audit uses.
 
 A semicolon-separated file reads ``1,5`` as 1.5 without being asked: with ';' between columns a comma can
-only be a decimal comma. Comma- and tab-separated files need the decimal-comma option for that.
+only be a decimal comma. Comma- and tab-separated files need the decimal-comma option for that. With a decimal
+comma, a point still reads as a decimal point; thousands separators are never read (``1.234,5`` is refused).
 """
 
 from __future__ import annotations

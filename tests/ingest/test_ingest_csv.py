@@ -184,3 +184,11 @@ def test_many_rows_read_quickly_enough():
     rows = [(f"{1000 + k / 12:.4f}", f"{wiggle(k)}") for k in range(60_000)]
     table = read_csv_text(csv_text("time,value", rows))
     assert table.series.n == 60_000 and table.series.sampling == "monthly"
+
+
+def test_a_column_per_month_reads_once_a_value_column_is_chosen():
+    header = "Year,Jan,Feb,Mar,Apr,May,Jun,Jul,Aug,Sep,Oct,Nov,Dec,J-D"
+    rows = [(1990 + i,) + tuple(round(0.1 * m + wiggle(i), 4) for m in range(13)) for i in range(10)]
+    table = read_csv_text(csv_text(header, rows), IngestOptions(value_column="J-D"))
+    np.testing.assert_allclose(table.series.value, [row[-1] for row in rows])
+    assert "Jan" in table.extra_columns
