@@ -42,7 +42,8 @@ def case(**changes):
         # A significant adjusted test but a window that moved the other way does not support a pause.
         (case(change_p_adjusted=0.01, window_slope=0.03), CONSISTENT),
         # Acceleration: supported only by a steeper window, contradicted by a significantly slower one.
-        (case(kind="acceleration", window_slope=0.04, change_p_adjusted=0.01), CHANGE_SUPPORTED),
+        (case(kind="acceleration", window_slope=0.04, window_p_weaker=0.99, window_p_stronger=0.01,
+              change_p_adjusted=0.01), CHANGE_SUPPORTED),
         (case(kind="acceleration", window_slope=0.002, window_p_weaker=0.01), CONTRADICTED),
         # A falling series: a "recovery" (reversal) is a rise in slope.
         (case(kind="reversal", long_term_slope=-0.05, window_slope=0.02, change_p_adjusted=0.02), CHANGE_SUPPORTED),
