@@ -92,7 +92,7 @@ def _change_tests(t, y, claim_start, direction, noise, noise_kind, sims, rng, rn
     return _ChangeTests(hinge, broken, sup_hinge, sup_broken)
 
 
-def _verdict_inputs(claim, tw, yw, lt_estimate, noise, method, options, alpha, change, spell_p, ytd, units):
+def _verdict_inputs(claim, tw, yw, lt_estimate, lt_mk_p, noise, method, options, alpha, change, spell_p, ytd, units):
     window = slope_uncertainty(tw, yw, method=method, confidence=options.confidence, noise=noise)
     trend_sign = 1 if lt_estimate.slope >= 0 else -1
     weaker = compare_slopes(window, lt_estimate, alternative="less" if trend_sign > 0 else "greater")
@@ -100,6 +100,7 @@ def _verdict_inputs(claim, tw, yw, lt_estimate, noise, method, options, alpha, c
     inputs = VerdictInputs(
         kind=claim.kind, window_start=claim.start, window_end=claim.end, window_points=int(tw.size), alpha=alpha,
         long_term_slope=lt_estimate.slope, long_term_ci=lt_estimate.ci, long_term_p=lt_estimate.p_value,
+        long_term_mk_p=lt_mk_p,
         window_slope=window.slope, window_ci=window.ci, window_p_vs_zero=window.p_value,
         window_p_weaker=weaker.p_value, window_p_stronger=stronger.p_value,
         change_p_nominal=change.hinge.p_value_nominal, change_p_adjusted=change.sup_f.p_value_adjusted,
@@ -137,8 +138,13 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
                          fix="Start the window later, or give a reference period that begins earlier")
     tw, yw = t[in_window], y[in_window]
 
-    long_term = summarise_trend(tr, yr, method=options.noise, confidence=options.confidence, points_per_year=ppy)
-    noise: NoiseModel = estimate_noise(long_term.fit.residuals, options.noise)
+    # Noise comes from the residuals of the segmented fit, not of one straight line: over a record whose
+    # rate changed, straight-line residuals carry the change itself and would pass for strongly red noise.
+    # On a record with no detected change the two are the same.
+    segment_residuals = y - segmentation.fitted
+    noise: NoiseModel = estimate_noise(segment_residuals[in_ref], options.noise)
+    long_term = summarise_trend(tr, yr, method=options.noise, confidence=options.confidence, noise=noise,
+                                points_per_year=ppy)
     lt_estimate = long_term.chosen
     direction = claim.direction(lt_estimate.slope)
     tail = claim.tail(lt_estimate.slope)
@@ -152,17 +158,17 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
     detect_curve = _detect_curve(lt_estimate.slope, noise, ppy, alpha, tr.size)
 
     units = series.units
-    inputs, window, weaker, stronger = _verdict_inputs(claim, tw, yw, lt_estimate, noise, options.noise, options,
+    inputs, window, weaker, stronger = _verdict_inputs(claim, tw, yw, lt_estimate, long_term.mann_kendall.p_value, noise, options.noise, options,
                                                        alpha, change, spell.probability, ytd, units)
     verdict = decide(inputs)
 
     sensitivity = window_sensitivity(t, y, claim.start, claim.end, k_years=options.sensitivity_years,
                                      long_term_slope=lt_estimate.slope)
-    endpoints = endpoint_outliers(t, y, long_term.fit, claim.start, claim.end, noise.marginal_sd)
-    robustness = _robustness(claim, tw, yw, tr, yr, options, alpha, change, spell.probability, ppy, units, rng,
-                             verdict.code)
-    whole = _whole_record(series, claim, tw, yw, options, alpha, spell.probability, ppy, units, rng["whole_record"],
-                          reference, direction, min_points)
+    endpoints = endpoint_outliers(t, y, claim.start, claim.end, long_term.fit.line(t), noise.marginal_sd)
+    robustness = _robustness(claim, tw, yw, tr, yr, segment_residuals[in_ref], options, alpha, change,
+                             spell.probability, ppy, units, rng, verdict.code)
+    whole = _whole_record(series, claim, tw, yw, segment_residuals, options, alpha, spell.probability, ppy, units,
+                          rng["whole_record"], reference, min_points)
     verdict = dataclasses.replace(verdict, what_would_change=_what_would_change(
         inputs, verdict.code, sensitivity, robustness, whole, options, units))
 
@@ -185,14 +191,14 @@ def _detect_curve(slope, noise, ppy, alpha, n_reference) -> tuple[tuple[float, f
     return tuple((float(n / ppy), float(detection_power(slope, noise, int(n), ppy, alpha=alpha))) for n in lengths)
 
 
-def _robustness(claim, tw, yw, tr, yr, options, alpha, change, spell_p, ppy, units, rng, main_code):
+def _robustness(claim, tw, yw, tr, yr, residuals, options, alpha, change, spell_p, ppy, units, rng, main_code):
     """Would the verdict hold under each noise model? White, AR(1) and ARMA(1,1) rerun the change test."""
     rows = []
     sims = max(200, options.simulations // 4)
-    fit = fit_trend(tr, yr)
+    lt_mk_p = mann_kendall(yr, alpha=alpha).p_value
     for method in ROBUSTNESS_METHODS:
         noise_kind = method if method in SIMULATED_NOISE else "ar1"
-        noise = estimate_noise(fit.residuals, noise_kind)
+        noise = estimate_noise(residuals, noise_kind)
         lt = slope_uncertainty(tr, yr, method=method, confidence=options.confidence,
                                noise=noise if method in SIMULATED_NOISE else None)
         method_change = change
@@ -204,7 +210,7 @@ def _robustness(claim, tw, yw, tr, yr, options, alpha, change, spell_p, ppy, uni
                                           with_broken=False)
         ytd = years_to_detect(lt.slope, noise, ppy, alpha=alpha)
         inputs, window, weaker, stronger = _verdict_inputs(
-            claim, tw, yw, lt, noise if method in SIMULATED_NOISE else None, method, options, alpha, method_change,
+            claim, tw, yw, lt, lt_mk_p, noise if method in SIMULATED_NOISE else None, method, options, alpha, method_change,
             spell_p, ytd, units)
         code = decide_code(inputs)
         rows.append(RobustnessRow(method=method, window_slope=window.slope, window_ci=window.ci,
@@ -215,18 +221,18 @@ def _robustness(claim, tw, yw, tr, yr, options, alpha, change, spell_p, ppy, uni
     return tuple(rows)
 
 
-def _whole_record(series, claim, tw, yw, options, alpha, spell_p, ppy, units, rng, reference, direction,
+def _whole_record(series, claim, tw, yw, residuals, options, alpha, spell_p, ppy, units, rng, reference,
                   min_points) -> WholeRecordCheck:
     """The one-line sensitivity: what if the whole record were the reference period?"""
     t, y = series.time, series.value
-    lt = summarise_trend(t, y, method=options.noise, confidence=options.confidence, points_per_year=ppy)
-    noise = estimate_noise(lt.fit.residuals, options.noise)
+    noise = estimate_noise(residuals, options.noise)
+    lt = summarise_trend(t, y, method=options.noise, confidence=options.confidence, noise=noise, points_per_year=ppy)
     same = reference.start <= series.start and reference.end >= series.end
     sims = max(200, options.simulations // 4)
     change = _change_tests(t, y, claim.start, claim.direction(lt.chosen.slope), noise, options.noise, sims, rng, rng,
                            min(min_points, int((t >= claim.start).sum())), with_broken=False)
     ytd = years_to_detect(lt.chosen.slope, noise, ppy, alpha=alpha)
-    inputs, window, weaker, stronger = _verdict_inputs(claim, tw, yw, lt.chosen, noise, options.noise, options,
+    inputs, window, weaker, stronger = _verdict_inputs(claim, tw, yw, lt.chosen, lt.mann_kendall.p_value, noise, options.noise, options,
                                                        alpha, change, spell_p, ytd, units)
     return WholeRecordCheck(same_as_reference=same, long_term_slope=lt.chosen.slope, long_term_ci=lt.chosen.ci,
                             p_window_vs_long_term=(stronger if claim.says_faster else weaker).p_value,

@@ -56,7 +56,10 @@ def _histogram(values: np.ndarray) -> dict[str, Any]:
 
 def _band(t: np.ndarray, fit, stderr: float, confidence: float, dof: float) -> dict[str, Any]:
     """The fitted line with a pointwise confidence band, the level's error inflated like the slope's."""
-    inflation = stderr / fit.slope_stderr_white if fit.slope_stderr_white > 0 else 1.0
+    if not (np.isfinite(stderr) and fit.slope_stderr_white > 0):
+        line = fit.line(t)
+        return {"time": t, "value": line, "lower": None, "upper": None}
+    inflation = stderr / fit.slope_stderr_white
     tc = t - fit.t_mean
     level_var = (fit.residual_sd ** 2) / fit.n * inflation ** 2
     se = np.sqrt(level_var + tc ** 2 * stderr ** 2)

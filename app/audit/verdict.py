@@ -2,8 +2,11 @@
 
 Precedence (first match wins; alpha = 1 - confidence):
 
-1. ``no_long_term_trend``     the reference period's own trend is not significant at alpha, so a
-                              "pause" or "acceleration" of it has nothing to be measured against.
+1. ``no_long_term_trend``     neither the parametric test nor Mann-Kendall finds a trend over the
+                              reference period at alpha, so a "pause" or "acceleration" of it has nothing
+                              to be measured against. (Both must fail: on a smooth, nearly noiseless
+                              series such as a concentration record the AR(1) effective sample size
+                              collapses and the parametric test alone would miss an obvious trend.)
 2. ``claim_contradicted``     the window itself shows a significant trend in the direction the claim
                               denies (a "pause" during which the series kept rising significantly).
 3. ``trend_change_supported`` the directional trend-change test is significant at alpha *after*
@@ -46,6 +49,7 @@ class VerdictInputs:
     long_term_slope: float
     long_term_ci: tuple[float, float]
     long_term_p: float
+    long_term_mk_p: float  # Mann-Kendall (Hamed-Rao) p-value over the reference period
     window_slope: float
     window_ci: tuple[float, float]
     window_p_vs_zero: float  # two-sided
@@ -97,6 +101,10 @@ def _years(value: float) -> str:
     return f"{value:.0f}" if value >= 3 else f"{value:.1f}"
 
 
+def _article(noun: str) -> str:
+    return "an" if noun[:1] in "aeiou" else "a"
+
+
 def _direction_word(sign: int) -> str:
     return "rising" if sign > 0 else "falling"
 
@@ -116,7 +124,7 @@ def _moved_as_claimed(v: VerdictInputs) -> bool:
 
 
 def decide_code(v: VerdictInputs) -> str:
-    if not v.long_term_p < v.alpha:
+    if not (v.long_term_p < v.alpha or v.long_term_mk_p < v.alpha):
         return NO_TREND
     if _contradicted(v):
         return CONTRADICTED
@@ -140,9 +148,9 @@ def decide(v: VerdictInputs) -> Verdict:
     trend_dir = _direction_word(v.trend_sign)
 
     if code == NO_TREND:
-        headline = f"No clear long-term trend to have a {noun}: the claim's framing does not apply"
+        headline = f"No clear long-term trend to have {_article(noun)} {noun}: the claim's framing does not apply"
         summary = (f"Over the reference period the series shows no trend distinguishable from its natural variability "
-                   f"({rate(v.long_term_slope)}, {format_p(v.long_term_p)}). Talk of a {noun} presumes a trend to begin "
+                   f"({rate(v.long_term_slope)}, {format_p(v.long_term_p)}). Talk of {_article(noun)} {noun} presumes a trend to begin "
                    f"with; these data do not establish one, so the claim can be neither confirmed nor refuted this way.")
     elif code == CONTRADICTED:
         if v.kind == "acceleration":
@@ -151,7 +159,7 @@ def decide(v: VerdictInputs) -> Verdict:
                        f"({format_p(v.window_p_weaker)}). The data do not support an acceleration over this window.")
         else:
             headline = f"The series kept {trend_dir} during the claimed {noun}"
-            summary = (f"Rather than a {noun}, {window_text}: a significant trend in the same direction as "
+            summary = (f"Rather than {_article(noun)} {noun}, {window_text}: a significant trend in the same direction as "
                        f"{long_text} ({format_p(v.window_p_vs_zero)} against no trend). The window chosen by the claim "
                        f"itself appears to contradict it.")
     elif code == CHANGE_SUPPORTED:
@@ -162,7 +170,7 @@ def decide(v: VerdictInputs) -> Verdict:
                    f"and the result rests on the noise model.")
     elif code == TOO_SHORT:
         need = f"about {_years(v.years_to_detect)} years" if math.isfinite(v.years_to_detect) else "a much longer record"
-        headline = f"{years} years is too short to tell a {noun} from the ongoing trend"
+        headline = f"{years} years is too short to tell {_article(noun)} {noun} from the ongoing trend"
         summary = (f"{window_text[0].upper() + window_text[1:]}, while {long_text} would take {need} of data to show "
                    f"itself against this series' year-to-year variability. A window this short can look flat, or steep, "
                    f"by chance alone; the data do not show a change in trend "

@@ -19,7 +19,7 @@ from app.audit.verdict import (
 
 BASE = VerdictInputs(
     kind="pause", window_start=1998.0, window_end=2013.0, window_points=16, alpha=0.05,
-    long_term_slope=0.018, long_term_ci=(0.014, 0.022), long_term_p=1e-9,
+    long_term_slope=0.018, long_term_ci=(0.014, 0.022), long_term_p=1e-9, long_term_mk_p=1e-6,
     window_slope=0.004, window_ci=(-0.01, 0.018), window_p_vs_zero=0.5,
     window_p_weaker=0.04, window_p_stronger=0.96, change_p_nominal=0.03, change_p_adjusted=0.4,
     spell_probability=0.6, years_to_detect=12.0, units="°C",
@@ -36,7 +36,9 @@ def case(**changes):
         (BASE, CONSISTENT),
         (case(years_to_detect=25.0), TOO_SHORT),
         (case(window_points=5, window_end=2002.0), TOO_SHORT),
-        (case(long_term_p=0.2), NO_TREND),
+        (case(long_term_p=0.2, long_term_mk_p=0.3), NO_TREND),
+        # Either test finding the trend is enough: a smooth record defeats the effective-sample-size test.
+        (case(long_term_p=0.2), CONSISTENT),
         (case(window_slope=0.03, window_ci=(0.01, 0.05), window_p_vs_zero=0.001), CONTRADICTED),
         (case(change_p_adjusted=0.01, window_slope=-0.01), CHANGE_SUPPORTED),
         # A significant adjusted test but a window that moved the other way does not support a pause.
@@ -55,11 +57,11 @@ def test_each_code_from_a_constructed_case(inputs, code):
 
 
 def test_no_trend_takes_precedence_over_everything():
-    assert decide_code(case(long_term_p=0.5, change_p_adjusted=0.001, window_p_vs_zero=0.001)) == NO_TREND
+    assert decide_code(case(long_term_p=0.5, long_term_mk_p=0.5, change_p_adjusted=0.001, window_p_vs_zero=0.001)) == NO_TREND
 
 
 def test_every_code_has_a_headline_and_a_short_summary():
-    cases = [BASE, case(years_to_detect=25.0), case(long_term_p=0.2),
+    cases = [BASE, case(years_to_detect=25.0), case(long_term_p=0.2, long_term_mk_p=0.2),
              case(window_slope=0.03, window_p_vs_zero=0.001), case(change_p_adjusted=0.01, window_slope=-0.01)]
     seen = set()
     for inputs in cases:
