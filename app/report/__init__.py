@@ -1,0 +1,1 @@
+"""Rendering a stored audit for people: the HTML report."""

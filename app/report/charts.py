@@ -1,0 +1,373 @@
+"""The report's five charts, drawn from the stored audit document alone.
+
+Each chart is a ``ChartSpec``: a builder that turns the document into a matplotlib Figure, and the
+words around it (a title, a caption, and a text alternative that states the numbers the picture
+shows). Nothing here computes a statistic: every line, band, bar and cell comes from the document
+``app.audit.serialize.audit_document`` wrote; the only arithmetic is scaling slopes into the rate
+unit and normalising histogram counts to shares.
+"""
+
+from __future__ import annotations
+
+import math
+import textwrap
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+from matplotlib.colors import Normalize
+from matplotlib.figure import Figure
+from matplotlib.patches import Rectangle
+from matplotlib.ticker import PercentFormatter
+
+from app.report import palette
+from app.report.figures import lay_out, new_figure, styled
+from app.report.numbers import Rate, format_p, format_percent, format_years, is_number, time_of
+
+MAX_CELL_TICKS = 7
+LABEL_WRAP = 90  # characters per line of a series name above a chart
+CHART_NAMES = ("series", "null", "sensitivity", "segments", "detectability")
+
+
+@dataclass(frozen=True)
+class ChartSpec:
+    name: str
+    title: Callable[[dict[str, Any]], str]
+    caption: Callable[[dict[str, Any]], str]
+    description: Callable[[dict[str, Any]], str]
+    build: Callable[[dict[str, Any]], Figure]
+
+
+def _array(values: Any) -> np.ndarray:
+    """A stored list as floats, with JSON nulls (NaN in the result) back as NaN."""
+    if values is None:
+        return np.empty(0)
+    return np.array([math.nan if v is None else v for v in values], dtype=float)
+
+
+def _value_axis_label(doc: dict[str, Any]) -> str:
+    inputs = doc.get("inputs") or {}
+    label, units = inputs.get("label") or "", inputs.get("units") or ""
+    if label and units:
+        return f"{label} ({units})"
+    return label or units or "Value"
+
+
+def _name_values(ax, label: str, units: str) -> int:
+    """Units on the axis, where there is room; the series' name, however long, wrapped above the plot.
+
+    Returns the number of title lines, for the layout."""
+    ax.set_ylabel(units or "Value")
+    if not label:
+        return 0
+    wrapped = textwrap.fill(label, LABEL_WRAP)
+    ax.set_title(wrapped, loc="left", color=palette.MUTED)
+    return wrapped.count("\n") + 1
+
+
+def _name_document_values(ax, doc: dict[str, Any]) -> int:
+    inputs = doc.get("inputs") or {}
+    return _name_values(ax, inputs.get("label") or "", inputs.get("units") or "")
+
+
+def _claim_span(doc: dict[str, Any]) -> str:
+    claim = doc["claim"]
+    return f"{time_of(doc, claim['start'])} to {time_of(doc, claim['end'])}"
+
+
+def _confidence(doc: dict[str, Any]) -> str:
+    return f"{100 * float(doc['options'].get('confidence', 0.95)):.0f}%"
+
+
+def _band(ax, line: dict[str, Any], colour: str, label: str, linestyle: str) -> None:
+    t = _array(line.get("time"))
+    if t.size == 0:
+        return
+    ax.fill_between(t, _array(line["lower"]), _array(line["upper"]), color=colour, alpha=0.16, linewidth=0)
+    ax.plot(t, _array(line["value"]), color=colour, linewidth=2.0, linestyle=linestyle, label=label)
+
+
+def _observed(ax, t: np.ndarray, y: np.ndarray, label: str = "Data") -> None:
+    ax.plot(t, y, color=palette.OBSERVED, linewidth=0.8 if t.size > 200 else 1.0, label=label, zorder=1)
+    if t.size <= 200:
+        ax.plot(t, y, linestyle="none", marker="o", markersize=2.2, color=palette.OBSERVED, zorder=1)
+
+
+# 1. The series with the reference trend, the window trend and their ranges.
+
+@styled
+def _series_chart(doc: dict[str, Any]) -> Figure:
+    fig = new_figure(7.0)
+    ax = fig.add_subplot()
+    curves = doc["curves"]
+    claim = doc["claim"]
+    ax.axvspan(claim["start"], claim["end"], color=palette.WINDOW, alpha=0.07, linewidth=0)
+    _observed(ax, _array(curves["time"]), _array(curves["value"]))
+    ref = doc["reference"]
+    _band(ax, curves["reference_line"], palette.LONG_TERM,
+          f"Long-term trend, {time_of(doc, ref['start'])} to {time_of(doc, ref['end'])}, with its {_confidence(doc)} range",
+          "-")
+    _band(ax, curves["window_line"], palette.WINDOW,
+          f"Claimed window's trend, {_claim_span(doc)}, with its {_confidence(doc)} range", (0, (4, 2)))
+    lay_out(fig, ax, plot_height=2.6, title_lines=_name_document_values(ax, doc))
+    return fig
+
+
+def _series_description(doc: dict[str, Any]) -> str:
+    rate = Rate.of(doc)
+    inputs, ref, lt, win = doc["inputs"], doc["reference"], doc["long_term"], doc["window"]
+    return (f"Line chart of {_value_axis_label(doc)}, {inputs.get('n')} points from {time_of(doc, inputs.get('start'))} "
+            f"to {time_of(doc, inputs.get('end'))}. A straight long-term trend over {time_of(doc, ref['start'])} to "
+            f"{time_of(doc, ref['end'])} has a slope of {rate.text(lt.get('slope'))} ({_confidence(doc)} range "
+            f"{rate.range_text(lt.get('ci'))}). The claimed window, {_claim_span(doc)}, is shaded; its own trend is "
+            f"{rate.text(win.get('slope'))} ({_confidence(doc)} range {rate.range_text(win.get('ci'))}).")
+
+
+# 2. Window trends under the no-change model, with the claimed window marked.
+
+def _shares(histogram: dict[str, Any], factor: float) -> tuple[np.ndarray, np.ndarray]:
+    edges = _array(histogram.get("edges")) * factor
+    counts = _array(histogram.get("counts"))
+    total = counts.sum()
+    return edges, (counts / total if total > 0 else counts)
+
+
+@styled
+def _null_chart(doc: dict[str, Any]) -> Figure:
+    rate = Rate.of(doc)
+    spell = doc["spell"]
+    fig = new_figure(7.0)
+    ax = fig.add_subplot()
+    edges, shares = _shares(spell.get("histogram") or {}, rate.factor)
+    if edges.size > 1:
+        ax.stairs(shares, edges, fill=True, color=palette.SIMULATED,
+                  label=f"One {spell.get('window_points')}-point window in a record with no change in trend")
+    extreme_edges, extreme_shares = _shares(spell.get("extremes_histogram") or {}, rate.factor)
+    if extreme_edges.size > 1:
+        ax.stairs(extreme_shares, extreme_edges, color=palette.MARK, linewidth=1.4,
+                  label="The most extreme such window anywhere in each simulated record")
+    if is_number(spell.get("null_slope")):
+        ax.axvline(rate.scaled(spell["null_slope"]), color=palette.LONG_TERM, linewidth=1.6, linestyle=(0, (5, 2)),
+                   label=f"Long-term trend: {rate.text(spell['null_slope'])}")
+    if is_number(spell.get("observed_slope")):
+        ax.axvline(rate.scaled(spell["observed_slope"]), color=palette.WINDOW, linewidth=2.2,
+                   label=f"Claimed window: {rate.text(spell['observed_slope'])}")
+    ax.set_xlabel(f"Trend of the window ({rate.axis_unit})")
+    ax.set_ylabel("Share of simulations")
+    ax.yaxis.set_major_formatter(PercentFormatter(1.0, decimals=0))
+    ax.set_ylim(bottom=0)
+    lay_out(fig, ax, plot_height=2.3)
+    return fig
+
+
+def _null_description(doc: dict[str, Any]) -> str:
+    rate = Rate.of(doc)
+    spell = doc["spell"]
+    return (f"Histogram of the trends of {spell.get('window_points')}-point windows in "
+            f"{spell.get('n_simulations')} simulated records that follow the long-term trend "
+            f"({rate.text(spell.get('null_slope'))}) with this series' noise. The claimed window's trend, "
+            f"{rate.text(spell.get('observed_slope'))}, is marked. A window at least this extreme turned up somewhere "
+            f"in {format_percent(spell.get('probability'))} of the simulated records, and in "
+            f"{format_percent(spell.get('probability_single_window'), 1)} of single windows.")
+
+
+# 3. Start/end sensitivity: the trend of every nearby window.
+
+def _centred_norm(values: np.ndarray, centre: float) -> Normalize:
+    finite = values[np.isfinite(values)]
+    if finite.size == 0 or not math.isfinite(centre):
+        return Normalize()
+    reach = float(np.max(np.abs(finite - centre))) or 1e-12
+    return Normalize(centre - reach, centre + reach)
+
+
+def _cell_ticks(set_ticks, centres: np.ndarray, doc: dict[str, Any]) -> None:
+    """Ticks on the cells themselves, named like the data's times, at most about seven of them."""
+    stride = max(1, math.ceil(centres.size / MAX_CELL_TICKS))
+    chosen = centres[::stride]
+    set_ticks(chosen, [time_of(doc, value) for value in chosen])
+
+
+@styled
+def _sensitivity_chart(doc: dict[str, Any]) -> Figure:
+    rate = Rate.of(doc)
+    cherry = doc["cherry_pick"]
+    starts, ends = _array(cherry["start_times"]), _array(cherry["end_times"])
+    slopes = np.array([_array(row) for row in cherry["slopes"]], dtype=float).reshape(starts.size, ends.size)
+    slopes = slopes * rate.factor
+    fig = new_figure(6.4)
+    ax = fig.add_subplot()
+    ax.grid(False)
+    cmap = palette.SLOPE_DIVERGING.with_extremes(bad="#ececec")
+    mesh = ax.pcolormesh(ends, starts, np.ma.masked_invalid(slopes), shading="nearest", cmap=cmap,
+                         norm=_centred_norm(slopes, rate.scaled(doc["long_term"].get("slope"))),
+                         edgecolors=palette.PAPER, linewidth=0.3)
+    # The matrix is centred on the claimed window: its middle row and column.
+    start_step = starts[1] - starts[0] if starts.size > 1 else 1.0
+    end_step = ends[1] - ends[0] if ends.size > 1 else 1.0
+    ax.add_patch(Rectangle((ends[ends.size // 2] - end_step / 2, starts[starts.size // 2] - start_step / 2),
+                           end_step, start_step, fill=False, edgecolor=palette.INK, linewidth=2.2,
+                           label="The claimed window"))
+    _cell_ticks(ax.set_xticks, ends, doc)
+    _cell_ticks(ax.set_yticks, starts, doc)
+    ax.set_xlabel("Window ends")
+    ax.set_ylabel("Window starts")
+    bar = lay_out(fig, ax, plot_height=3.0, colorbar_mappable=mesh)
+    bar.set_label(f"Window trend ({rate.axis_unit})")
+    bar.ax.axhline(rate.scaled(doc["long_term"].get("slope")), color=palette.INK, linewidth=1.2)
+    return fig
+
+
+def _sensitivity_description(doc: dict[str, Any]) -> str:
+    rate = Rate.of(doc)
+    cherry = doc["cherry_pick"]
+    finite = [v for row in cherry["slopes"] for v in row if is_number(v)]
+    low, high = (min(finite), max(finite)) if finite else (math.nan, math.nan)
+    starts, ends = cherry["start_times"], cherry["end_times"]
+    rank = cherry.get("claimed_rank_percentile")
+    return (f"Heat map of the trend of every window starting between {time_of(doc, starts[0])} and "
+            f"{time_of(doc, starts[-1])} and ending between {time_of(doc, ends[0])} and {time_of(doc, ends[-1])}. "
+            f"Trends range from {rate.text(low)} to {rate.text(high)}; colours are centred on the long-term trend "
+            f"of {rate.text(doc['long_term'].get('slope'))}. The claimed window ({rate.text(cherry.get('claimed_slope'))}) "
+            f"is outlined" + (f" and ranks at the {rank:.0f}th percentile of its neighbours, 0 being the flattest."
+                              if is_number(rank) else "."))
+
+
+# 4. The segmented fit with its breakpoints and their ranges.
+
+@styled
+def _segments_chart(doc: dict[str, Any]) -> Figure:
+    fig = new_figure(7.0)
+    ax = fig.add_subplot()
+    curves, segments = doc["curves"], doc["segments"]
+    t = _array(curves["time"])
+    _observed(ax, t, _array(curves["value"]))
+    for index, (low, high) in enumerate(segments.get("breakpoint_ranges") or []):
+        if is_number(low) and is_number(high):
+            ax.axvspan(low, high, color=palette.SEGMENTS, alpha=0.13, linewidth=0,
+                       label=f"Range of each break ({_confidence(doc)})" if index == 0 else None)
+    for index, when in enumerate(segments.get("breakpoints") or []):
+        ax.axvline(when, color=palette.SEGMENTS, linewidth=1.1, linestyle=(0, (2, 2)),
+                   label="Estimated break" if index == 0 else None)
+    jumps = (segments.get("discontinuous") or {}).get("fitted")
+    if jumps is not None and len(jumps) == t.size:
+        ax.plot(t, _array(jumps), color=palette.MARK, linewidth=1.2, linestyle=(0, (1, 1.5)),
+                label="Fit allowing jumps between segments")
+    fitted = segments.get("fitted")
+    if fitted is not None and len(fitted) == t.size:
+        ax.plot(t, _array(fitted), color=palette.SEGMENTS, linewidth=2.2, label="Joined straight segments")
+    claim = doc["claim"]
+    ax.axvline(claim["start"], color=palette.WINDOW, linewidth=1.2, label=f"Claimed start: {time_of(doc, claim['start'])}")
+    lay_out(fig, ax, plot_height=2.5, legend_columns=2, title_lines=_name_document_values(ax, doc))
+    return fig
+
+
+def _segments_description(doc: dict[str, Any]) -> str:
+    rate = Rate.of(doc)
+    segments = doc["segments"]
+    breaks = [b for b in segments.get("breakpoints") or [] if is_number(b)]
+    pieces = "; ".join(f"{time_of(doc, s['start'])} to {time_of(doc, s['end'])}: {rate.text(s.get('slope'))}"
+                       for s in segments.get("segments") or [])
+    found = ("no break, so one straight line" if not breaks else
+             f"{len(breaks)} break{'s' if len(breaks) > 1 else ''}, at " + ", ".join(time_of(doc, b) for b in breaks))
+    return (f"The series with a fit of joined straight segments. The search found {found}. "
+            f"Segment trends: {pieces or 'none'}. The claimed start, {time_of(doc, doc['claim']['start'])}, is marked.")
+
+
+# 5. How long a window must be to show the long-term trend, against the claimed window's length.
+
+@styled
+def _detectability_chart(doc: dict[str, Any]) -> Figure:
+    detect = doc["detectability"]
+    fig = new_figure(7.0)
+    ax = fig.add_subplot()
+    curve = detect.get("curve") or []
+    years = _array([point["years"] for point in curve])
+    power = _array([point["power"] for point in curve])
+    ax.plot(years, power, color=palette.LONG_TERM, linewidth=2.0,
+            label="Chance a window this long shows the long-term trend")
+    window_years = detect.get("window_years")
+    if is_number(window_years):
+        ax.axvline(window_years, color=palette.WINDOW, linewidth=1.8,
+                   label=f"The claimed window: {format_years(window_years)} years")
+        if is_number(detect.get("power")):
+            ax.plot([window_years], [detect["power"]], marker="o", markersize=6, color=palette.WINDOW,
+                    linestyle="none")
+    needed = detect.get("years_to_detect")
+    if is_number(needed):
+        ax.axvline(needed, color=palette.MARK, linewidth=1.4, linestyle=(0, (4, 2)),
+                   label=f"Years needed to detect the trend: {format_years(needed)}")
+    ax.set_ylim(0, 1.02)
+    ax.set_xlim(0, _detect_view_end(years, window_years, needed))
+    ax.yaxis.set_major_formatter(PercentFormatter(1.0, decimals=0))
+    ax.set_xlabel("Length of a window (years)")
+    ax.set_ylabel("Chance of detecting the trend")
+    lay_out(fig, ax, plot_height=2.2)
+    return fig
+
+
+def _detect_view_end(years: np.ndarray, window_years: Any, needed: Any) -> float:
+    """Show the curve up to a little past both marks; beyond that it only sits at 100%."""
+    marks = [v for v in (window_years, needed) if is_number(v)]
+    longest = float(np.nanmax(years)) if years.size else 10.0
+    return max(10.0, min(longest, 2.0 * max(marks))) if marks else longest
+
+
+def _detectability_description(doc: dict[str, Any]) -> str:
+    detect = doc["detectability"]
+    return (f"Curve of the chance that a window of a given length shows the long-term trend as significant, "
+            f"rising with the window's length. The claimed window spans {format_years(detect.get('window_years'))} "
+            f"years, where that chance is {format_percent(detect.get('power'))}; about "
+            f"{format_years(detect.get('years_to_detect'))} years are needed to detect the trend against this "
+            f"series' noise.")
+
+
+def _caption_series(doc):
+    return ("The data, the long-term trend over the reference period and the trend of the claimed window, each "
+            "with its range. Where the two shaded ranges overlap, the window's trend is not clearly different "
+            "from the long-term one.")
+
+
+def _caption_null(doc):
+    return ("How steep or flat a window of the same length comes out by chance when the long-term trend simply "
+            "continues with this series' year-to-year noise. The outline shows the most extreme window anywhere "
+            "in each simulated record: the fair comparison when a claimant was free to choose the window.")
+
+
+def _caption_sensitivity(doc):
+    return ("The trend of every window whose start and end lie near the claimed ones. A claim that holds only "
+            "for one cell, or sits at the edge of the colours, depends on exactly where the window was cut.")
+
+
+def _caption_segments(doc):
+    return ("Where an automatic search, not told about the claim, would put changes in trend. Shaded spans give "
+            "each break's range; a break far from the claimed start does not support the claim.")
+
+
+def _caption_detectability(doc):
+    return ("A trend is hard to see in a short window: the curve shows how often a window of each length would "
+            "show the long-term trend as significant. Windows to the left of the dashed line usually cannot.")
+
+
+CHARTS: dict[str, ChartSpec] = {spec.name: spec for spec in (
+    ChartSpec("series", lambda d: "The series and its trends", _caption_series, _series_description, _series_chart),
+    ChartSpec("null", lambda d: "How unusual is the window's trend?", _caption_null, _null_description, _null_chart),
+    ChartSpec("sensitivity", lambda d: "Does the claim depend on the exact dates?", _caption_sensitivity,
+              _sensitivity_description, _sensitivity_chart),
+    ChartSpec("segments", lambda d: "Where the trend changes, if anywhere", _caption_segments, _segments_description,
+              _segments_chart),
+    ChartSpec("detectability", lambda d: "How long a record is needed to see the trend", _caption_detectability,
+              _detectability_description, _detectability_chart),
+)}
+
+
+@styled
+def preview_chart(time: np.ndarray, value: np.ndarray, label: str, units: str) -> Figure:
+    """The small picture of what was read, shown before the audit runs."""
+    fig = new_figure(6.4)
+    ax = fig.add_subplot()
+    ax.plot(np.asarray(time, dtype=float), np.asarray(value, dtype=float), color=palette.OBSERVED, linewidth=0.9)
+    titles = _name_values(ax, label, units)
+    lay_out(fig, ax, plot_height=1.5, title_lines=titles)
+    return fig

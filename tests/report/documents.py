@@ -1,0 +1,35 @@
+"""Audit documents for the report tests, made by the real pipeline on the invented sample series.
+
+Small simulation counts keep them quick; the numbers do not matter here, only that every part of the
+document is present as ``app.audit.serialize.audit_document`` writes it, after a JSON round trip
+(what the store gives back).
+"""
+
+from __future__ import annotations
+
+import json
+from datetime import datetime, timezone
+from functools import lru_cache
+
+from app.audit import AuditOptions, Claim, audit_document, run_audit
+from app.ingest import IngestOptions, read_csv_text
+from app.settings import PROJECT_ROOT
+
+SAMPLES = PROJECT_ROOT / "sample_series"
+CREATED = datetime(2025, 3, 14, 9, 26, tzinfo=timezone.utc)
+
+
+@lru_cache(maxsize=None)
+def sample_document(name: str = "quorvane-annual-temperature", start: float = 1998.0, end: float = 2012.5,
+                    kind: str = "pause", label: str = "Quorvane temperature anomaly", units: str = "°C",
+                    simulations: int = 200, seed: int = 20250314) -> str:
+    """The stored form (JSON text) of one audit; parse it afresh in each test so none can alter another's."""
+    table = read_csv_text((SAMPLES / f"{name}.csv").read_bytes(), IngestOptions(label=label, units=units))
+    result = run_audit(table.series, Claim(start, end, kind), AuditOptions(simulations=simulations, seed=seed))
+    return json.dumps(audit_document(result))
+
+
+def stored_body(document_json: str, audit_id: str = "AbCdEfGhIjKlMnOpQrStUvWx", title: str = "Has it stopped?"):
+    """The API's body for one audit, as ``app.api.service.audit_body`` builds it."""
+    return {"id": audit_id, "kind": "audit", "title": title, "created_at": CREATED.isoformat().replace("+00:00", "Z"),
+            **json.loads(document_json)}

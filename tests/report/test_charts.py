@@ -1,0 +1,125 @@
+"""The five report charts: drawn from the stored document alone, labelled for screen readers, safe to inline."""
+
+from __future__ import annotations
+
+import json
+import re
+import xml.etree.ElementTree as ET
+
+import pytest
+
+from app.report.chart_cache import chart_file, chart_views
+from app.report.charts import CHART_NAMES, CHARTS
+from app.report.figures import inline_svg, standalone_svg
+from app.report.numbers import Rate
+
+SVG_NS = "{http://www.w3.org/2000/svg}"
+
+
+@pytest.mark.parametrize("name", CHART_NAMES)
+def test_each_chart_inlines_as_a_labelled_svg_element(document, name):
+    svg = chart_file("audit-one", document, name, "inline")
+    assert svg.startswith("<svg ")
+    assert "<?xml" not in svg and "<!DOCTYPE" not in svg and "<!--" not in svg
+    assert 'role="img"' in svg
+    opening = svg[:svg.index(">")]
+    assert not re.search(r'\s(width|height)="', opening)  # CSS sizes it to the column; the viewBox keeps its shape
+    root = ET.fromstring(svg)
+    title = root.find(f"{SVG_NS}title")
+    desc = root.find(f"{SVG_NS}desc")
+    assert title is not None and title.text == CHARTS[name].title(document)
+    assert desc is not None and desc.text == CHARTS[name].description(document)
+    assert root.get("aria-labelledby") == title.get("id")
+    assert root.get("aria-describedby") == desc.get("id")
+
+
+def test_ids_never_clash_between_the_charts_of_one_page(document):
+    ids = []
+    for view in chart_views("audit-one", document):
+        ids += re.findall(r'\bid="([^"]+)"', str(view.svg))
+    assert len(ids) == len(set(ids))
+    for view in chart_views("audit-one", document):
+        for reference in re.findall(r'url\(#([^)]+)\)|href="#([^"]+)"', str(view.svg)):
+            target = reference[0] or reference[1]
+            assert target.startswith(f"chart-{view.name}-")
+            assert target in ids
+
+
+@pytest.mark.parametrize("name", CHART_NAMES)
+def test_downloads_are_a_standalone_svg_file_and_a_png(document, name):
+    svg = chart_file("audit-one", document, name, "svg")
+    assert svg.startswith('<?xml version="1.0"')
+    root = ET.fromstring(svg.split("\n", 1)[1])
+    assert root.tag == f"{SVG_NS}svg" and root.get("width", "").endswith("pt")
+    png = chart_file("audit-one", document, name, "png")
+    assert png[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_the_same_document_draws_the_same_svg(document):
+    first = chart_file("audit-a", document, "series", "inline")
+    second = chart_file("audit-b", json.loads(json.dumps(document)), "series", "inline")
+    assert first == second
+
+
+def test_charts_are_cached_per_audit_and_chart(document):
+    first = chart_file("audit-one", document, "null", "inline")
+    changed = {**document, "spell": {**document["spell"], "observed_slope": 0.5}}
+    assert chart_file("audit-one", changed, "null", "inline") is first  # a stored audit never changes
+    assert chart_file("audit-two", changed, "null", "inline") != first
+
+
+def test_the_series_chart_shows_the_data_and_both_trend_lines(document):
+    svg = chart_file("audit-one", document, "series", "inline")
+    ref = document["reference"]
+    assert "Long-term trend" in svg and "Claimed window" in svg
+    assert f"{ref['start'] - 0.5:.0f} to {ref['end'] - 0.5:.0f}" in svg  # the legend names the years (mid-year times)
+    assert document["inputs"]["label"] in svg and "°C" in svg
+
+
+def test_descriptions_state_the_numbers_in_the_rate_unit(document):
+    rate = Rate.of(document)
+    text = CHARTS["series"].description(document)
+    assert rate.text(document["long_term"]["slope"]) in text
+    assert rate.text(document["window"]["slope"]) in text
+    assert "per decade" in text
+    detect = CHARTS["detectability"].description(document)
+    assert "years" in detect
+    null = CHARTS["null"].description(document)
+    assert str(document["spell"]["n_simulations"]) in null
+
+
+def test_the_sensitivity_chart_draws_windows_outside_the_data_as_blanks(document):
+    cherry = document["cherry_pick"]
+    cherry["slopes"][0] = [None] * len(cherry["slopes"][0])  # as JSON stores NaN
+    svg = chart_file("audit-blank", document, "sensitivity", "inline")
+    assert "The claimed window" in svg
+
+
+def test_a_segmentation_without_breaks_still_draws(document):
+    document["segments"].update(breakpoints=[], breakpoint_ranges=[], n_breaks=0)
+    svg = chart_file("audit-nobreak", document, "segments", "inline")
+    assert "Estimated break" not in svg
+    assert "no break" in CHARTS["segments"].description(document)
+
+
+def test_user_text_reaches_the_svg_escaped_and_never_as_mathtext(document):
+    hostile = '<script>alert(1)</script> "><img src=x onerror=alert(1)> $\\alpha$ &amp; ]]> -- -->'
+    document["inputs"]["label"] = hostile
+    document["inputs"]["units"] = "$x^2$"
+    for make in (inline_svg, standalone_svg):
+        svg = make(CHARTS["series"].build(document), "series", hostile, hostile)
+        assert "<script" not in svg and "<img" not in svg
+        assert "&lt;script&gt;alert(1)&lt;/script&gt;" in svg
+        assert "$\\alpha$" in svg and "$x^2$" in svg  # typed text, not typeset
+        assert "&amp;amp;" in svg and "]]&gt;" in svg
+        assert "-->" not in svg  # comments, which echo text, are gone
+        ET.fromstring(svg.split("\n", 1)[1] if svg.startswith("<?xml") else svg)
+
+
+def test_unknown_chart_names_and_formats_are_not_found(document):
+    from app.errors import NotFound
+
+    with pytest.raises(NotFound):
+        chart_file("audit-one", document, "pie", "svg")
+    with pytest.raises(NotFound):
+        chart_file("audit-one", document, "series", "gif")
