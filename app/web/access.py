@@ -1,0 +1,66 @@
+"""The desk's side of the service's access rules.
+
+When ``TRENDAUDIT_API_KEYS`` is set, creating and listing audits need a key; reading one report by
+its link never does. A browser cannot send an Authorization header from a plain form, so the desk
+asks for the key once, keeps it in an HttpOnly, SameSite=Strict cookie (scripts cannot read it and
+other sites cannot make the browser send it), and checks it on every request with the API's own
+constant-time comparison.
+"""
+
+from __future__ import annotations
+
+from fastapi import Request
+from starlette.responses import Response
+
+from app.api.deps import key_matches
+from app.errors import AccessDenied, Location
+from app.settings import Settings
+
+KEY_COOKIE = "trendaudit_key"
+KEY_COOKIE_DAYS = 30
+
+
+def keys_required(settings: Settings) -> bool:
+    return bool(settings.api_key_list)
+
+
+def has_access(request: Request, settings: Settings) -> bool:
+    keys = settings.api_key_list
+    if not keys:
+        return True
+    given = request.cookies.get(KEY_COOKIE)
+    return bool(given) and key_matches(given, keys)
+
+
+def require_access(request: Request, settings: Settings, action: str) -> None:
+    if has_access(request, settings):
+        return
+    sent = bool(request.cookies.get(KEY_COOKIE))
+    raise AccessDenied(f"{action} needs an access key on this service" if not sent else
+                       "the access key kept in this browser is no longer accepted",
+                       missing_credentials=not sent, location=Location(field="key"),
+                       fix="Type the key your service's operator gave you below")
+
+
+def check_key(given: str, settings: Settings) -> None:
+    if not given.strip():
+        raise AccessDenied("no key was typed", location=Location(field="key"), fix="Type the access key")
+    if not key_matches(given.strip(), settings.api_key_list):
+        raise AccessDenied("that key is not one this service accepts", missing_credentials=False,
+                           location=Location(field="key"), fix="Check it for typos, or ask the operator for a key")
+
+
+def remember_key(response: Response, key: str, secure: bool) -> None:
+    response.set_cookie(KEY_COOKIE, key.strip(), max_age=KEY_COOKIE_DAYS * 86400, path="/", httponly=True,
+                        samesite="strict", secure=secure)
+
+
+def forget_key(response: Response, secure: bool) -> None:
+    response.delete_cookie(KEY_COOKIE, path="/", httponly=True, samesite="strict", secure=secure)
+
+
+def safe_next(target: str | None) -> str:
+    """Only a path on this site: never another host ('//evil', 'https://...'), never a script URL."""
+    if not target or not target.startswith("/") or target.startswith("//") or "\\" in target:
+        return "/"
+    return target

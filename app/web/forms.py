@@ -1,0 +1,129 @@
+"""The desk's one form: what the person typed, kept as typed, and turned into audit inputs on demand.
+
+Every field keeps its raw text so a page with a problem can show the form again exactly as it was
+sent. Field names follow the API's multipart form (``claim_start``, ``noise``, ``source_url``...), so
+an error's location means the same in both places.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, fields, replace
+from typing import Any
+
+from starlette.datastructures import FormData, UploadFile
+
+from app.api.audits import _number as form_number
+from app.audit.claim import CLAIM_KINDS, NOISE_MODELS, RATE_UNITS, AuditOptions
+from app.errors import InputError, Location
+from app.settings import Settings
+
+TEXT_FIELDS = ("table", "sample", "title", "label", "units", "time_column", "value_column", "claim_start",
+               "claim_end", "claim_kind", "reference_start", "reference_end", "confidence", "noise", "simulations",
+               "seed", "rate_unit", "missing_sentinels", "source_name", "source_url", "source_notes")
+CONFIDENCE_CHOICES = ("0.9", "0.95", "0.99")
+
+
+@dataclass(frozen=True)
+class DeskForm:
+    table: str = ""
+    sample: str = ""
+    title: str = ""
+    label: str = ""
+    units: str = ""
+    time_column: str = ""
+    value_column: str = ""
+    claim_start: str = ""
+    claim_end: str = ""
+    claim_kind: str = "pause"
+    reference_start: str = ""
+    reference_end: str = ""
+    confidence: str = ""
+    noise: str = ""
+    simulations: str = ""
+    seed: str = ""
+    rate_unit: str = ""
+    missing_sentinels: str = ""
+    decimal_comma: bool = False
+    source_name: str = ""
+    source_url: str = ""
+    source_notes: str = ""
+
+    def source(self) -> dict[str, str | None]:
+        return {"name": self.source_name.strip() or None, "url": self.source_url.strip() or None,
+                "notes": self.source_notes.strip() or None}
+
+    def sentinels(self) -> tuple[float, ...]:
+        try:
+            return tuple(float(part) for part in self.missing_sentinels.replace(";", ",").split(",") if part.strip())
+        except ValueError:
+            raise InputError("the missing-value markers must be numbers separated by commas",
+                             location=Location(field="missing_sentinels"), fix="Write them as e.g. -999, -99.99") from None
+
+    def option_values(self) -> dict[str, Any]:
+        """The audit options the person set; empty fields are left to the service's defaults."""
+        values: dict[str, Any] = {
+            "confidence": _number(self.confidence, "confidence", float),
+            "simulations": _number(self.simulations, "simulations", int),
+            "seed": _number(self.seed, "seed", int),
+            "noise": self.noise.strip() or None,
+            "rate_unit": self.rate_unit.strip() or None,
+        }
+        return values
+
+    def reference_texts(self) -> tuple[str, str]:
+        return self.reference_start.strip(), self.reference_end.strip()
+
+
+def _number(text: str, name: str, kind: type) -> Any:
+    # The API's multipart form reads numbers the same way, with the same messages.
+    return form_number({name: text}, name, kind)
+
+
+async def read_form(form: FormData, max_upload_bytes: int) -> tuple[DeskForm, bytes | None, str | None]:
+    """The form fields as text, plus an uploaded file's bytes and name when one was attached."""
+    values: dict[str, Any] = {}
+    for name in TEXT_FIELDS:
+        value = form.get(name)
+        if isinstance(value, UploadFile):
+            raise InputError(f"'{name}' should be a text field, not a file", location=Location(field=name),
+                             fix="Send the field as text")
+        values[name] = value or ""
+    values["decimal_comma"] = (form.get("decimal_comma") or "") in ("on", "true", "1", "yes")
+    upload = form.get("file")
+    data, filename = None, None
+    if isinstance(upload, UploadFile) and upload.filename:
+        data = await upload.read(max_upload_bytes + 1)
+        filename = upload.filename
+        if not data:
+            data = None
+    return DeskForm(**values), data, filename
+
+
+def with_defaults(form: DeskForm, **defaults: str) -> DeskForm:
+    """Fills only the fields the person left empty (a sample's suggested claim, its units)."""
+    updates = {name: value for name, value in defaults.items() if value and not getattr(form, name)}
+    return replace(form, **updates)
+
+
+CLAIM_KIND_WORDS = {
+    "pause": "A pause: the trend stopped",
+    "slowdown": "A slowdown: the trend weakened",
+    "reversal": "A reversal: the trend turned the other way",
+    "acceleration": "An acceleration: the trend grew stronger",
+}
+NOISE_MODEL_WORDS = {
+    "ar1": "AR(1): each year leans on the last (recommended)",
+    "arma11": "ARMA(1,1): a longer memory",
+    "white": "White noise: every point independent (optimistic)",
+}
+
+
+def form_choices(settings: Settings) -> dict[str, Any]:
+    return {"claim_kinds": {k: CLAIM_KIND_WORDS.get(k, k) for k in CLAIM_KINDS},
+            "noise_models": {k: NOISE_MODEL_WORDS.get(k, k) for k in NOISE_MODELS},
+            "rate_units": tuple(RATE_UNITS), "confidence_choices": CONFIDENCE_CHOICES,
+            "defaults": {"confidence": f"{settings.default_confidence:g}", "noise": settings.default_noise,
+                         "simulations": settings.default_simulations, "rate_unit": AuditOptions().rate_unit}}
+
+
+FORM_FIELD_NAMES = tuple(f.name for f in fields(DeskForm))
