@@ -33,8 +33,11 @@
     if (problem) problem.focus();
     var permalink = document.getElementById("permalink-field");
     if (permalink && permalink.value.charAt(0) === "/") {
-      // Without a configured public address the server can only give a path; the browser knows the rest.
+      // Without a configured public address the server can only give a path; the browser knows the rest,
+      // and a printed copy needs the whole address.
       permalink.value = window.location.origin + permalink.value;
+      var links = document.querySelectorAll("a.permalink");
+      for (var k = 0; k < links.length; k++) links[k].textContent = permalink.value;
     }
     if (permalink) {
       permalink.addEventListener("focus", function () { permalink.select(); });
