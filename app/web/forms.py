@@ -34,7 +34,7 @@ class DeskForm:
     value_column: str = ""
     claim_start: str = ""
     claim_end: str = ""
-    claim_kind: str = "pause"
+    claim_kind: str = ""  # empty until chosen, so a sample's own kind of claim can fill it
     reference_start: str = ""
     reference_end: str = ""
     confidence: str = ""

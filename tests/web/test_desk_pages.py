@@ -91,6 +91,19 @@ def test_running_an_audit_redirects_to_its_report(client):
     assert stored["options"]["simulations"] == 200
 
 
+def test_a_samples_own_kind_of_claim_is_chosen(client):
+    html = client.get("/", params={"sample": "lake-orrindal-ice-days"}).text  # its claim: a reversal
+    assert '<option value="reversal" selected>' in html
+    assert '<option value="pause" selected>' not in html
+
+
+def test_a_field_at_fault_is_marked_for_assistive_technology(client):
+    html = client.post("/audit", data=_claim_form(table=ANNUAL_CSV, claim_start="1800")).text
+    field = re.search(r'<input [^>]*id="claim_start"[^>]*>', html).group(0)
+    assert 'aria-invalid="true"' in field and "problem-title" in field
+    assert 'aria-invalid' not in re.search(r'<input [^>]*id="claim_end"[^>]*>', html).group(0)
+
+
 def test_a_sample_audit_keeps_the_samples_invented_source(client):
     location = client.post("/audit", data=_claim_form(sample=SAMPLE)).headers["location"]
     body = client.get("/api/v1" + location).json()
