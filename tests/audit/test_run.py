@@ -1,0 +1,118 @@
+"""End-to-end audits of constructed series: each verdict code, reproducibility, and refusals."""
+
+import numpy as np
+import pytest
+
+from app.audit import AuditOptions, Claim, audit_document, run_audit
+from app.errors import ClaimError
+from app.ingest.series import Series
+from app.stats.noise import NoiseModel, simulate_noise
+
+YEARS = np.arange(1885, 2025) + 0.5  # 140 annual points, mid-year
+
+
+def annual(values, label="constructed") -> Series:
+    return Series(time=YEARS[: len(values)].copy(), value=np.asarray(values, dtype=float), sampling="annual",
+                  label=label, units="°C")
+
+
+def red_noise(seed, phi=0.3, sigma=0.1, n=140):
+    model = NoiseModel("ar1", phi=phi, sigma=sigma * np.sqrt(1 - phi * phi))
+    return simulate_noise(model, n, 1, np.random.default_rng(seed))[0]
+
+
+def audit(series, start, end, kind="pause", **options):
+    options.setdefault("simulations", 400)
+    options.setdefault("seed", 7)
+    return run_audit(series, Claim(start, end, kind), AuditOptions(**options))
+
+
+def test_a_steady_trend_with_a_long_window_is_consistent():
+    # A "slowdown" over 40 years whose trend is a little below the long-term one, by noise alone.
+    y = 0.015 * (YEARS - YEARS[0]) + red_noise(1)
+    result = audit(annual(y), 1985.0, 2024.9, kind="slowdown")
+    assert result.window.slope < result.long_term.chosen.slope
+    assert result.verdict.code == "consistent_with_trend", result.verdict.summary
+
+
+def test_a_few_years_is_too_short_to_tell():
+    y = 0.015 * (YEARS - YEARS[0]) + red_noise(2)
+    result = audit(annual(y), 2019.0, 2024.9)
+    assert result.verdict.code == "too_short_to_tell"
+
+
+def test_three_points_are_answered_and_two_are_refused():
+    y = 0.015 * (YEARS - YEARS[0]) + red_noise(3)
+    assert audit(annual(y), 2022.0, 2024.9).verdict.code == "too_short_to_tell"
+    with pytest.raises(ClaimError, match="at least 3"):
+        audit(annual(y), 2023.0, 2024.9)
+
+
+def test_a_trend_that_stopped_is_supported():
+    trend = np.where(YEARS < 1985, 0.02 * (YEARS - YEARS[0]), 0.02 * (1985 - YEARS[0]))
+    result = audit(annual(trend + red_noise(4)), 1985.0, 2024.9)
+    assert result.verdict.code == "trend_change_supported", result.verdict.summary
+    assert result.sup_f.p_value_adjusted < 0.05
+
+
+def test_a_pause_claim_during_clear_warming_is_contradicted():
+    y = 0.03 * (YEARS - YEARS[0]) + red_noise(5, sigma=0.05)
+    result = audit(annual(y), 1995.0, 2024.9)
+    assert result.verdict.code == "claim_contradicted"
+
+
+def test_pure_noise_has_no_long_term_trend():
+    result = audit(annual(red_noise(6, phi=0.2)), 2000.0, 2014.9)
+    assert result.verdict.code == "no_long_term_trend"
+
+
+def test_a_real_acceleration_is_supported():
+    trend = 0.01 * (YEARS - YEARS[0]) + np.where(YEARS > 1975, 0.025 * (YEARS - 1975), 0.0)
+    result = audit(annual(trend + red_noise(7)), 1975.0, 2024.9, kind="acceleration")
+    assert result.verdict.code == "trend_change_supported", result.verdict.summary
+
+
+def test_a_recovery_in_a_falling_record_is_tested_as_a_rise_in_slope():
+    # A shrinking ice record whose decline turned into a recovery: the claim direction follows the trend's sign.
+    trend = np.where(YEARS < 1990, -0.03 * (YEARS - YEARS[0]), -0.03 * (1990 - YEARS[0]) + 0.02 * (YEARS - 1990))
+    result = audit(annual(trend + red_noise(8)), 1990.0, 2024.9, kind="reversal")
+    assert result.hinge.direction == "increase"
+    assert result.verdict.code == "trend_change_supported", result.verdict.summary
+
+
+def test_same_input_and_seed_give_the_same_numbers():
+    y = 0.015 * (YEARS - YEARS[0]) + red_noise(9)
+    first = audit_document(audit(annual(y), 1998.0, 2012.9, seed=123))
+    second = audit_document(audit(annual(y), 1998.0, 2012.9, seed=123))
+    assert first == second
+    other = audit_document(audit(annual(y), 1998.0, 2012.9, seed=124))
+    assert other["spell"]["probability"] != first["spell"]["probability"] or \
+        other["trend_change"]["p_value_adjusted"] != first["trend_change"]["p_value_adjusted"]
+
+
+def test_an_audit_without_a_seed_draws_and_records_one():
+    y = 0.015 * (YEARS - YEARS[0]) + red_noise(10)
+    result = audit(annual(y), 1998.0, 2012.9, seed=None)
+    assert isinstance(result.seed, int) and result.options.seed == result.seed
+    again = audit(annual(y), 1998.0, 2012.9, seed=result.seed)
+    assert audit_document(again) == audit_document(result)
+
+
+def test_a_window_outside_the_data_is_refused():
+    y = 0.015 * (YEARS - YEARS[0]) + red_noise(11)
+    with pytest.raises(ClaimError, match="outside the data"):
+        audit(annual(y), 2030.0, 2040.0)
+
+
+def test_the_document_has_every_field_the_api_promises():
+    y = 0.015 * (YEARS - YEARS[0]) + red_noise(12)
+    doc = audit_document(audit(annual(y), 1998.0, 2012.9))
+    for path in ("verdict.code", "verdict.headline", "verdict.summary", "reference.start", "reference.end",
+                 "long_term.slope", "long_term.ci", "long_term.p_value", "window.start", "window.end", "window.slope",
+                 "window.ci", "window.p_value_vs_zero", "window.p_value_vs_long_term", "trend_change.p_value_nominal",
+                 "trend_change.p_value_adjusted", "spell.probability", "segments.breakpoints",
+                 "detectability.years_to_detect", "inputs.sha256", "inputs.n", "software_version", "seed"):
+        node = doc
+        for key in path.split("."):
+            assert key in node, path
+            node = node[key]
