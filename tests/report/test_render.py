@@ -155,3 +155,17 @@ def test_undetermined_numbers_are_said_in_words(document):
 
 def test_sample_document_is_a_json_round_trip():
     assert json.loads(sample_document()) == json.loads(sample_document())
+
+
+def test_a_document_with_undetermined_parts_still_renders_every_section(document):
+    """An audit whose data could not bound some quantity stores nulls there; the report says so in words."""
+    document["cherry_pick"]["slopes"] = [[None] * len(row) for row in document["cherry_pick"]["slopes"]]
+    document["cherry_pick"]["claimed_rank_percentile"] = None
+    document["detectability"] = {"years_to_detect": None, "window_years": 14.0, "power": None, "curve": []}
+    document["spell"].update(histogram={"edges": [], "counts": []}, extremes_histogram={"edges": [], "counts": []},
+                             probability=None)
+    document["segments"].update(fitted=None, discontinuous={})
+    document["long_term"]["ci"] = [None, None]
+    html = render_report(stored_body(json.dumps(document), audit_id="undetermined"))
+    assert html.count("<figure") == 5
+    assert "95% range undetermined" in html
