@@ -26,7 +26,7 @@ from app.report.figures import lay_out, new_figure, styled
 from app.report.numbers import Rate, format_p, format_percent, format_years, is_number, time_of
 
 MAX_CELL_TICKS = 7
-LABEL_WRAP = 90  # characters per line of a series name above a chart
+LABEL_WRAP = 80  # characters per line of a series name above a chart
 CHART_NAMES = ("series", "null", "sensitivity", "segments", "detectability")
 
 
@@ -54,19 +54,13 @@ def _value_axis_label(doc: dict[str, Any]) -> str:
     return label or units or "Value"
 
 
-def _name_values(ax, label: str, units: str) -> int:
-    """Units on the axis, where there is room; the series' name, however long, wrapped above the plot.
-
-    Returns the number of title lines, for the layout."""
+def _name_values(ax, label: str, units: str) -> str:
+    """Units on the axis, where there is room; returns the series' name, however long, wrapped for above the plot."""
     ax.set_ylabel(units or "Value")
-    if not label:
-        return 0
-    wrapped = textwrap.fill(label, LABEL_WRAP)
-    ax.set_title(wrapped, loc="left", color=palette.MUTED)
-    return wrapped.count("\n") + 1
+    return textwrap.fill(label, LABEL_WRAP) if label else ""
 
 
-def _name_document_values(ax, doc: dict[str, Any]) -> int:
+def _name_document_values(ax, doc: dict[str, Any]) -> str:
     inputs = doc.get("inputs") or {}
     return _name_values(ax, inputs.get("label") or "", inputs.get("units") or "")
 
@@ -110,7 +104,7 @@ def _series_chart(doc: dict[str, Any]) -> Figure:
           "-")
     _band(ax, curves["window_line"], palette.WINDOW,
           f"Claimed window's trend, {_claim_span(doc)}, with its {_confidence(doc)} range", (0, (4, 2)))
-    lay_out(fig, ax, plot_height=2.6, title_lines=_name_document_values(ax, doc))
+    lay_out(fig, ax, plot_height=2.6, title=_name_document_values(ax, doc))
     return fig
 
 
@@ -259,7 +253,7 @@ def _segments_chart(doc: dict[str, Any]) -> Figure:
         ax.plot(t, _array(fitted), color=palette.SEGMENTS, linewidth=2.2, label="Joined straight segments")
     claim = doc["claim"]
     ax.axvline(claim["start"], color=palette.WINDOW, linewidth=1.2, label=f"Claimed start: {time_of(doc, claim['start'])}")
-    lay_out(fig, ax, plot_height=2.5, legend_columns=2, title_lines=_name_document_values(ax, doc))
+    lay_out(fig, ax, plot_height=2.5, legend_columns=2, title=_name_document_values(ax, doc))
     return fig
 
 
@@ -368,6 +362,5 @@ def preview_chart(time: np.ndarray, value: np.ndarray, label: str, units: str) -
     fig = new_figure(6.4)
     ax = fig.add_subplot()
     ax.plot(np.asarray(time, dtype=float), np.asarray(value, dtype=float), color=palette.OBSERVED, linewidth=0.9)
-    titles = _name_values(ax, label, units)
-    lay_out(fig, ax, plot_height=1.5, title_lines=titles)
+    lay_out(fig, ax, plot_height=1.5, title=_name_values(ax, label, units))
     return fig

@@ -17,6 +17,7 @@ import matplotlib
 matplotlib.use("Agg")  # before anything can pick an interactive backend
 
 from matplotlib.figure import Figure  # noqa: E402
+from matplotlib.ticker import MaxNLocator  # noqa: E402
 
 from app.report import palette  # noqa: E402
 
@@ -69,7 +70,8 @@ X_LABEL_SPACE = 0.2  # the axis label under them, when there is one
 LEGEND_ROW = 0.185  # measured: 8-point legend text with matplotlib's default spacing
 LEGEND_PAD = 0.14
 LEGEND_FOOT = 0.05
-COLORBAR_SPACE = 1.25  # the colour scale, its ticks and its label, right of the plot
+COLORBAR_SPACE = 1.25
+MAX_TICKS = 7  # the colour scale, its ticks and its label, right of the plot
 
 
 def new_figure(width: float = 7.0) -> Figure:
@@ -78,12 +80,17 @@ def new_figure(width: float = 7.0) -> Figure:
         return Figure(figsize=(width, 3.0))
 
 
-def lay_out(fig: Figure, ax, *, plot_height: float, legend_columns: int = 1, title_lines: int = 0,
+def lay_out(fig: Figure, ax, *, plot_height: float, legend_columns: int = 1, title: str = "",
             colorbar_mappable=None):
-    """Sizes the figure around a plot of ``plot_height`` inches, with the key under it; returns the colour bar."""
+    """Sizes the figure around a plot of ``plot_height`` inches, with the key under it; returns the colour bar.
+
+    ``title`` (already wrapped) goes above the plot at a fixed place: an Axes title would be
+    positioned by measuring every tick label, a large share of the drawing time.
+    """
     handles, labels = ax.get_legend_handles_labels()
     rows = -(-len(handles) // legend_columns) if handles else 0
     width = fig.get_figwidth()
+    title_lines = title.count("\n") + 1 if title else 0
     top = MARGIN_TOP + title_lines * TITLE_LINE
     bottom = X_TICKS_SPACE + (X_LABEL_SPACE if ax.get_xlabel() else 0.0) + (
         rows * LEGEND_ROW + LEGEND_PAD + LEGEND_FOOT if rows else 0.0)
@@ -92,6 +99,13 @@ def lay_out(fig: Figure, ax, *, plot_height: float, legend_columns: int = 1, tit
     fig.set_size_inches(width, height)
     ax.set_position([MARGIN_LEFT / width, bottom / height, (width - MARGIN_LEFT - right) / width,
                      plot_height / height])
+    for axis in (ax.xaxis, ax.yaxis):
+        locator = axis.get_major_locator()
+        if isinstance(locator, MaxNLocator):
+            locator.set_params(nbins=MAX_TICKS)  # every tick is several artists: draw no more than a reader needs
+    if title:
+        fig.text(MARGIN_LEFT / width, 1.0 - MARGIN_TOP * 0.5 / height, title, ha="left", va="top",
+                 color=palette.MUTED, fontsize=STYLE["axes.titlesize"])
     if handles:
         fig.legend(handles, labels, loc="lower left", ncols=legend_columns, handlelength=2.4,
                    bbox_to_anchor=(MARGIN_LEFT / width * 0.35, LEGEND_FOOT / height), borderaxespad=0.0)
