@@ -24,16 +24,12 @@ Sen's slope (Sen 1968) is the median of all pairwise slopes, its interval the us
 rank-based one (Sen 1968, eq. 2.6, as in scipy.stats.theilslopes), its intercept
 median(y) - slope * median(t).
 
-Pairs are handled by numpy in blocks of at most ``PAIR_BLOCK`` pairs. Up to
-``MAX_PAIRS_IN_MEMORY`` pairs (about 5,000 points, 100 MB of slopes) every pairwise slope is held
-at once; beyond that the order statistics Sen's slope needs are found exactly by streaming
-the slopes block by block through successively narrower histograms (``_streamed_order_statistics``),
-so memory stays bounded at the cost of a few extra passes.
+Both need all n (n - 1) / 2 pairs of points; ``app.stats.pairslopes`` counts and selects
+them without forming every pair when there are too many (series of up to 200,000 points).
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 
 import numpy as np
@@ -42,10 +38,8 @@ from scipy import stats
 from app.errors import InputError, Location, SeriesContentError
 from app.stats.noise import lag_autocorrelations
 from app.stats.ols import check_fraction, check_trend_inputs
+from app.stats.pairslopes import count_descents, median_slopes, pair_count, slope_order_statistics
 
-PAIR_BLOCK = 2_000_000
-MAX_PAIRS_IN_MEMORY = 12_500_000
-HISTOGRAM_BINS = 4096
 MIN_VARIANCE_CORRECTION = 0.01
 MIN_POINTS = 3  # Hamed-Rao divides by n (n-1) (n-2)
 HAMED_RAO_MAX_LAG = 3
@@ -92,27 +86,9 @@ def _check_rows(rows: np.ndarray) -> np.ndarray:
     return rows
 
 
-def _pair_blocks(n: int, max_pairs: int = PAIR_BLOCK) -> Iterator[tuple[np.ndarray, np.ndarray]]:
-    """Index pairs (i, j), i < j, in blocks of whole i-rows holding about ``max_pairs`` pairs each."""
-    start = 0
-    while start < n - 1:
-        counts = n - 1 - np.arange(start, n - 1)
-        stop = start + max(1, int(np.searchsorted(np.cumsum(counts), max_pairs, side="right")))
-        first = np.arange(start, stop)
-        per_row = n - 1 - first
-        i = np.repeat(first, per_row)
-        j = i + 1 + np.arange(per_row.sum()) - np.repeat(np.cumsum(per_row) - per_row, per_row)
-        yield i, j
-        start = stop
-
-
 def _mk_scores(rows: np.ndarray) -> np.ndarray:
-    """S = sum over i < j of sign(y_j - y_i), for every row."""
-    size, n = rows.shape
-    s = np.zeros(size)
-    for i, j in _pair_blocks(n, max(PAIR_BLOCK // size, n)):
-        s += np.sign(rows[:, j] - rows[:, i]).sum(axis=1)
-    return s
+    """S = (pairs i < j with y_j > y_i) - (pairs with y_j < y_i), for every row."""
+    return (count_descents(-rows) - count_descents(rows)).astype(float)
 
 
 def _tie_terms(rows: np.ndarray) -> np.ndarray:
@@ -133,7 +109,7 @@ def _hamed_rao_factor(rows: np.ndarray, alpha: float, max_lag: int | None) -> np
                          fix="Use 3 (the default) or None for every lag")
     n = rows.shape[1]
     index = np.arange(n, dtype=float)
-    slopes = _sen_medians(index, rows)
+    slopes = median_slopes(index, rows)
     # Times counted from 1 as in pymannkendall: points lying exactly on the Sen line then tie
     # (or not) after the same rounding, so the ranks agree to the last digit.
     ranks = stats.rankdata(rows - slopes[:, None] * (index + 1.0), axis=1)
@@ -178,88 +154,6 @@ def mann_kendall(y: np.ndarray, alpha: float = 0.05, hamed_rao: bool = True,
                              trend=trend, variance_correction=float(rows.variance_correction[0]))
 
 
-def _slope_blocks(t: np.ndarray, rows: np.ndarray, max_pairs: int) -> Callable[[], Iterator[np.ndarray]]:
-    """A restartable stream of the pairwise slopes of every row, (size, pairs) per block; equal times skipped."""
-    def stream() -> Iterator[np.ndarray]:
-        for i, j in _pair_blocks(t.size, max(max_pairs // rows.shape[0], t.size)):
-            dt = t[j] - t[i]
-            keep = dt != 0
-            yield (rows[:, j[keep]] - rows[:, i[keep]]) / dt[keep]
-    return stream
-
-
-def _valid_pair_count(t: np.ndarray) -> int:
-    _, counts = np.unique(t, return_counts=True)
-    return int(t.size * (t.size - 1) // 2 - (counts * (counts - 1) // 2).sum())
-
-
-def _slope_order_statistics(t: np.ndarray, rows: np.ndarray, ranks: list[int]) -> np.ndarray:
-    """Values of rank ``ranks`` (0-based) among the pairwise slopes of each row: (size, len(ranks))."""
-    size = rows.shape[0]
-    pairs = _valid_pair_count(t)
-    if pairs <= MAX_PAIRS_IN_MEMORY:
-        group = max(1, MAX_PAIRS_IN_MEMORY // pairs)
-        out = []
-        for start in range(0, size, group):
-            block = np.concatenate(list(_slope_blocks(t, rows[start:start + group], PAIR_BLOCK)()), axis=1)
-            out.append(np.partition(block, ranks, axis=1)[:, ranks])
-        return np.concatenate(out, axis=0)
-    return np.array([_streamed_order_statistics(_slope_blocks(t, rows[k:k + 1], PAIR_BLOCK), ranks)
-                     for k in range(size)])
-
-
-def _streamed_order_statistics(stream: Callable[[], Iterator[np.ndarray]], ranks: list[int],
-                               budget: int = MAX_PAIRS_IN_MEMORY) -> list[float]:
-    """Exact order statistics of values too many to hold, by narrowing a histogram bracket each pass.
-
-    Each rank keeps a half-open bracket [lo, hi) known to hold it and the count of values below
-    lo. A pass either bins the bracket's values into HISTOGRAM_BINS and keeps the bin holding
-    the rank, or, once the bracket holds at most ``budget`` values, collects them and selects.
-    """
-    extremes = np.array([(b.min(), b.max()) for b in stream() if b.size])
-    start = (float(extremes[:, 0].min()), float(np.nextafter(extremes[:, 1].max(), np.inf)), 0, False)
-    brackets = {r: start for r in set(ranks)}
-    found: dict[int, float] = {}
-    while len(found) < len(brackets):
-        pending = [r for r in brackets if r not in found]
-        edges = {r: np.linspace(brackets[r][0], brackets[r][1], HISTOGRAM_BINS + 1) for r in pending}
-        counts = {r: np.zeros(HISTOGRAM_BINS, dtype=np.int64) for r in pending}
-        kept: dict[int, list[np.ndarray]] = {r: [] for r in pending}
-        for block in stream():
-            values = block.ravel()
-            for r in pending:
-                lo, hi, _, collect = brackets[r]
-                held = values[(values >= lo) & (values < hi)]
-                if collect:
-                    kept[r].append(held)
-                else:
-                    counts[r] += np.bincount(np.searchsorted(edges[r], held, side="right") - 1,
-                                             minlength=HISTOGRAM_BINS)
-        for r in pending:
-            lo, hi, below, collect = brackets[r]
-            if collect:
-                found[r] = float(np.partition(np.concatenate(kept[r]), r - below)[r - below])
-                continue
-            cumulative = below + np.cumsum(counts[r])
-            b = int(np.searchsorted(cumulative, r, side="right"))
-            new_lo, new_hi = float(edges[r][b]), float(edges[r][b + 1])
-            if new_hi <= np.nextafter(new_lo, np.inf):  # one representable value left: it is the answer
-                found[r] = new_lo
-            else:
-                new_below = below if b == 0 else int(cumulative[b - 1])
-                brackets[r] = (new_lo, new_hi, new_below, bool(counts[r][b] <= budget))
-    return [found[r] for r in ranks]
-
-
-def _median_ranks(pairs: int) -> list[int]:
-    return [(pairs - 1) // 2, pairs // 2]
-
-
-def _sen_medians(t: np.ndarray, rows: np.ndarray) -> np.ndarray:
-    """Median pairwise slope of each row."""
-    return _slope_order_statistics(t, rows, _median_ranks(_valid_pair_count(t))).mean(axis=1)
-
-
 def _sen_interval_ranks(t: np.ndarray, y: np.ndarray, pairs: int, confidence: float) -> list[int]:
     """0-based ranks of the interval ends among the sorted slopes: Sen (1968) eq. 2.6, as scipy.stats.theilslopes."""
     def tie_sum(values: np.ndarray) -> float:
@@ -279,9 +173,9 @@ def sen_slope(t: np.ndarray, y: np.ndarray, confidence: float = 0.95) -> SenSlop
     """Theil-Sen slope per unit of t, its rank-based interval and the line's value at t = 0."""
     t, y = check_trend_inputs(t, np.ravel(y), MIN_POINTS)
     check_fraction(confidence, "confidence")
-    pairs = _valid_pair_count(t)
-    ranks = _median_ranks(pairs) + _sen_interval_ranks(t, y, pairs, confidence)
-    values = _slope_order_statistics(t, y[None, :], ranks)[0]
+    pairs = pair_count(t)
+    ranks = [(pairs - 1) // 2, pairs // 2] + _sen_interval_ranks(t, y, pairs, confidence)
+    values = slope_order_statistics(t, y[None, :], ranks)[0]
     slope = float(values[:2].mean())
     return SenSlope(slope=slope, intercept=float(np.median(y) - slope * np.median(t)),
                     ci=(float(values[2]), float(values[3])))

@@ -6,6 +6,7 @@ import pytest
 from scipy import stats
 
 import app.stats.nonparam as nonparam
+import app.stats.pairslopes as pairslopes
 from app.errors import SeriesContentError
 from app.stats.noise import NoiseModel, simulate_noise
 from app.stats.nonparam import mann_kendall, mann_kendall_rows, sen_slope
@@ -77,23 +78,32 @@ def test_sen_slope_matches_scipy_theilslopes(confidence):
         assert ours.ci == pytest.approx((ref.low_slope, ref.high_slope), rel=1e-12)
 
 
-def test_streamed_order_statistics_are_exact(monkeypatch):
-    # Against a full sort; small budgets force the histogram passes, the rounded case many equal slopes.
+def test_descent_counts_match_brute_force():
+    # Against the definition: pairs i < j with x_j < x_i, ties not counted.
     rng = np.random.default_rng(33)
-    t = np.arange(400.0)
-    t[10] = t[11]
-    for y in (rng.standard_normal(400), np.round(rng.standard_normal(400))):
-        stream = nonparam._slope_blocks(t, y[None, :], 5000)
-        every = np.sort(np.concatenate(list(stream()), axis=1)[0])
-        ranks = [0, 17, every.size // 2, every.size - 1]
-        assert nonparam._streamed_order_statistics(stream, ranks, budget=300) == [every[r] for r in ranks]
-    # The public function takes the streamed path above MAX_PAIRS_IN_MEMORY and gives the same answer.
-    y = rng.standard_normal(400) + 0.01 * t
-    in_memory = sen_slope(t, y)
-    monkeypatch.setattr(nonparam, "MAX_PAIRS_IN_MEMORY", 20_000)
-    monkeypatch.setattr(nonparam, "PAIR_BLOCK", 7_000)
+    for n in (1, 2, 7, 64, 300):
+        rows = np.round(rng.standard_normal((3, n)) * 2)
+        brute = [int(np.sum(np.triu(row[None, :] < row[:, None], 1))) for row in rows]
+        assert list(pairslopes.count_descents(rows)) == brute
+
+
+def test_counting_path_selects_the_same_slopes_as_holding_them_all(monkeypatch):
+    # The path long series take (no quadratic arrays) against a full sort, with ties in time and in values.
+    rng = np.random.default_rng(36)
+    t = np.sort(rng.integers(0, 500, 900)).astype(float)
+    for y in (0.01 * t + rng.standard_normal(900), np.round(0.01 * t + rng.standard_normal(900))):
+        every = np.sort(pairslopes._all_slopes(t, y[None, :])[0])
+        ranks = [0, 17, every.size // 3, every.size // 2, every.size - 1]
+        monkeypatch.setattr(pairslopes, "MAX_PAIRS_IN_MEMORY", 1000)
+        monkeypatch.setattr(pairslopes, "SAMPLE_PAIRS", 2000)
+        assert list(pairslopes.slope_order_statistics(t, y, ranks)[0]) == [every[r] for r in ranks]
+        monkeypatch.undo()
+    t = np.arange(900.0)
+    y = rng.standard_normal(900) + 0.01 * t
+    in_memory, mk_in_memory = sen_slope(t, y), mann_kendall(y)
+    monkeypatch.setattr(pairslopes, "MAX_PAIRS_IN_MEMORY", 1000)
     assert sen_slope(t, y) == in_memory
-    assert mann_kendall(y) == mann_kendall(y) and mann_kendall(y).s == pymannkendall.original_test(y).s
+    assert mann_kendall(y) == mk_in_memory
 
 
 def test_false_alarm_rates_under_white_and_autocorrelated_noise():
@@ -127,9 +137,9 @@ def test_sen_interval_coverage_under_white_noise():
     rng = np.random.default_rng(35)
     t = np.arange(60.0)
     rows = 0.05 * t + rng.standard_normal((2000, 60))
-    pairs = nonparam._valid_pair_count(t)
+    pairs = pairslopes.pair_count(t)
     ranks = nonparam._sen_interval_ranks(t, rows[0], pairs, 0.95)
-    ends = nonparam._slope_order_statistics(t, rows, ranks)
+    ends = pairslopes.slope_order_statistics(t, rows, ranks)
     coverage = np.mean((ends[:, 0] <= 0.05) & (0.05 <= ends[:, 1]))
     assert sen_slope(t, rows[0]).ci == pytest.approx(tuple(ends[0]))
     print(f"\nSen 95% interval coverage, white noise, n = 60: {coverage:.3f}")
