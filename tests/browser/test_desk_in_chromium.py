@@ -124,3 +124,25 @@ def test_nothing_scrolls_sideways_at_320_pixels(browser, server, stored_report, 
     finally:
         context.close()
     assert console.errors == []
+
+
+def test_the_whole_desk_works_without_javascript(browser, server, console):
+    context = browser.new_context(java_script_enabled=False)
+    plain = context.new_page()
+    plain.on("console", console.on_console)
+    try:
+        plain.goto(server + "/")
+        plain.fill("#table", CSV_TEXT)
+        plain.get_by_role("button", name="Read the series").click()
+        plain.wait_for_selector("#preview-title")
+        plain.select_option("#claim_kind", "slowdown")
+        plain.fill("#claim_start", "2000")
+        plain.fill("#claim_end", "2014")
+        plain.get_by_role("button", name="Run the audit").click()
+        plain.wait_for_url(re.compile(r".*/audits/[A-Za-z0-9_-]+$"), timeout=120_000)
+        assert "slowdown" in plain.inner_text(".kicker").lower()
+        assert plain.locator("#verdict-headline").inner_text()
+        assert plain.locator("figure.chart svg[role=img]").count() == 5
+    finally:
+        context.close()
+    assert console.errors == []
