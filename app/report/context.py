@@ -106,6 +106,7 @@ class ReportContext:
     whole_record: str
     segments: tuple[SegmentView, ...]
     rate_unit: str
+    segment_years: str
     noise_text: str
     confidence: str
     source: SourceView
@@ -287,6 +288,7 @@ def report_context(*, audit_id: str, title: str, created_at: Any, document: dict
         whole_record=_whole_record(doc, rate),
         segments=_segments(doc, rate),
         rate_unit=rate.axis_unit,
+        segment_years=f"{float(_get(doc, 'options', 'min_segment_years', default=10.0)):g}",
         noise_text=_noise_text(doc),
         confidence=conf,
         source=source_view,

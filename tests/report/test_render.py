@@ -14,7 +14,7 @@ from report.documents import CREATED, sample_document, stored_body
 
 CITATIONS = ("Santer et al. (2008)", "Foster &amp; Rahmstorf (2011)", "Weatherhead et al. (1998)", "Andrews (1993)",
              "Bai &amp; Perron (1998, 2003)", "Hamed &amp; Rao (1998)", "Sen’s (1968)", "Mann 1945", "Kendall 1975",
-             "Zeileis et al. (2002)")
+             "Zeileis et al. 2002")
 
 
 class _Outline(HTMLParser):
