@@ -107,6 +107,7 @@ class ReportContext:
     segments: tuple[SegmentView, ...]
     rate_unit: str
     segment_years: str
+    simulations: str
     noise_text: str
     confidence: str
     source: SourceView
@@ -289,6 +290,7 @@ def report_context(*, audit_id: str, title: str, created_at: Any, document: dict
         segments=_segments(doc, rate),
         rate_unit=rate.axis_unit,
         segment_years=f"{float(_get(doc, 'options', 'min_segment_years', default=10.0)):g}",
+        simulations=f"{int(_get(doc, 'spell', 'n_simulations', default=0)):,}",
         noise_text=_noise_text(doc),
         confidence=conf,
         source=source_view,
