@@ -5,7 +5,8 @@
     │   ├── SeriesFormatError       a file or field that cannot be read (a bad number, date, column)
     │   ├── SeriesContentError      readable, but unusable as a series (too short, constant, unsorted)
     │   ├── ClaimError              the claimed window or options do not fit the series
-    │   └── LimitExceeded           bigger than the service allows (413 for bodies, else 422)
+    │   ├── LimitExceeded           bigger than the service allows (413 for bodies, else 422)
+    │   └── UnsupportedMediaType    a body in a format the endpoint does not read (415)
     ├── AccessDenied                a missing or wrong API key or owner token (401/403)
     ├── NotFound                    no audit or sample with that name (404)
     └── ServiceBusy                 the compute pool is full; try again later (503 + Retry-After)
@@ -93,6 +94,11 @@ class LimitExceeded(InputError):
     def __init__(self, message: str, *, body_too_large: bool = False, **kwargs: Any) -> None:
         self.body_too_large = body_too_large
         super().__init__(message, **kwargs)
+
+
+class UnsupportedMediaType(InputError):
+    title = "The body's format is not one this endpoint reads"
+    slug = "unsupported-media-type"
 
 
 class AccessDenied(TrendAuditError):

@@ -2,22 +2,63 @@
 
 from __future__ import annotations
 
+from contextlib import asynccontextmanager
+
 from fastapi import FastAPI
+from fastapi.openapi.utils import get_openapi
 
 from app import __version__
+from app.api import audits, samples, trend
+from app.api.limits import BodySizeLimit
 from app.api.problems import install_problem_handlers
+from app.api.runtime import RuntimeHolder
+from app.api.schemas import AuditRequest, MultipartAuditForm
 from app.settings import Settings
+from app.web import routers as desk_routers
+
+# Bodies read by hand (JSON or multipart on one path) are described here so /docs can show them.
+HAND_READ_BODIES = (AuditRequest, MultipartAuditForm)
+
+
+def _openapi_with(application: FastAPI, models) -> dict:
+    if application.openapi_schema is None:
+        schema = get_openapi(title=application.title, version=application.version,
+                             description=application.description, routes=application.routes)
+        components = schema.setdefault("components", {}).setdefault("schemas", {})
+        for model in models:
+            model_schema = model.model_json_schema(ref_template="#/components/schemas/{model}")
+            components.update(model_schema.pop("$defs", {}))
+            components[model.__name__] = model_schema
+        application.openapi_schema = schema
+    return application.openapi_schema
 
 
 def create_app(settings: Settings | None = None) -> FastAPI:
     settings = settings or Settings()
+    runtime = RuntimeHolder(settings)
+
+    @asynccontextmanager
+    async def lifespan(_application: FastAPI):
+        runtime.get()  # connect and migrate at start, so a bad database fails the start, not a request
+        yield
+        runtime.close()
+
     application = FastAPI(
         title="Trend Audit",
         version=__version__,
-        description="Checks whether a short spell in a long series is consistent with its long-term trend.",
+        description="Checks whether a short spell in a long series is consistent with its long-term trend. "
+                    "Slopes are per year; times are decimal years.",
+        lifespan=lifespan,
     )
     application.state.settings = settings
+    application.state.runtime = runtime
     install_problem_handlers(application)
+    for router in desk_routers:  # the browser desk: HTML pages, their assets, chart downloads
+        application.include_router(router)
+    application.add_middleware(BodySizeLimit, max_bytes=settings.max_upload_bytes)
+    for router in (audits.router, audits.pages, samples.router, trend.router):
+        application.include_router(router)
+    application.openapi = lambda: _openapi_with(application, HAND_READ_BODIES)
 
     @application.get("/healthz", tags=["service"], summary="Liveness check")
     def healthz() -> dict[str, str]:

@@ -17,6 +17,7 @@ from app.errors import (
     NotFound,
     ServiceBusy,
     TrendAuditError,
+    UnsupportedMediaType,
 )
 
 PROBLEM_TYPE_BASE = "/problems/"
@@ -27,6 +28,8 @@ log = logging.getLogger("trendaudit.api")
 def status_for(error: TrendAuditError) -> int:
     if isinstance(error, LimitExceeded):
         return 413 if error.body_too_large else 422
+    if isinstance(error, UnsupportedMediaType):
+        return 415
     if isinstance(error, InputError):
         return 422
     if isinstance(error, AccessDenied):
@@ -78,7 +81,11 @@ def install_problem_handlers(app: FastAPI) -> None:
     @app.exception_handler(TrendAuditError)
     async def _domain(request: Request, error: TrendAuditError) -> JSONResponse:
         status, body = problem_for_error(error, instance=request.url.path)
-        headers = {"Retry-After": str(error.retry_after)} if isinstance(error, ServiceBusy) else None
+        headers = None
+        if isinstance(error, ServiceBusy):
+            headers = {"Retry-After": str(error.retry_after)}
+        elif status == 401:
+            headers = {"WWW-Authenticate": 'Bearer realm="trendaudit"'}  # RFC 9110 15.5.2: a 401 names its scheme
         return problem_response(status, body, headers)
 
     @app.exception_handler(RequestValidationError)
@@ -92,6 +99,7 @@ def install_problem_handlers(app: FastAPI) -> None:
             status=422, title="The request is not valid", slug="invalid-request",
             detail=f"field '{first['field']}': {first['message']}", instance=request.url.path,
             where={"field": first["field"]}, errors=faults,
+            fix=f"Correct '{first['field']}' as the message says, then send the request again",
         )
         return problem_response(422, body)
 
@@ -99,8 +107,12 @@ def install_problem_handlers(app: FastAPI) -> None:
     async def _http(request: Request, error: StarletteHTTPException) -> JSONResponse:
         title = {404: "Not found", 405: "Method not allowed", 413: "Request body too large"}.get(
             error.status_code, "Request failed")
+        where, fix = {404: ("path", "Check the address; the endpoints are listed at /docs"),
+                      405: ("method", "Use a method this address accepts; see /docs")}.get(
+            error.status_code, ("request", "See /docs for what this service accepts"))
         body = problem_body(status=error.status_code, title=title, detail=str(error.detail),
-                            slug="http-" + str(error.status_code), instance=request.url.path)
+                            slug="http-" + str(error.status_code), instance=request.url.path,
+                            where={"field": where}, fix=fix)
         return problem_response(error.status_code, body, getattr(error, "headers", None))
 
     @app.exception_handler(Exception)

@@ -1,0 +1,102 @@
+"""Limits enforced where input enters: the body size (before anything parses it) and string lengths."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from typing import Any
+
+from app.api.problems import problem_for_error, problem_response
+from app.errors import LimitExceeded, Location
+
+BODY_METHODS = frozenset({"POST", "PUT", "PATCH"})
+
+
+def body_too_large(limit: int) -> LimitExceeded:
+    return LimitExceeded(f"the request body is larger than this service's limit of {limit:,} bytes",
+                         body_too_large=True, location=Location(field="body"),
+                         fix="Send a smaller file: cut the series to the years that matter, or use monthly "
+                             "or annual values instead of daily ones")
+
+
+class _TooLarge(Exception):
+    """Raised from receive() when the streamed body passes the limit; turned into 413 by the middleware."""
+
+
+class BodySizeLimit:
+    """ASGI middleware: 413 problem for bodies over ``max_bytes``.
+
+    A declared Content-Length over the limit is refused before the app runs. A body without one
+    (chunked) is counted as it streams; once past the limit, receive() raises, and whatever the app
+    tries to answer is replaced by the 413.
+    """
+
+    def __init__(self, app, max_bytes: int) -> None:
+        self.app = app
+        self.max_bytes = max_bytes
+
+    async def __call__(self, scope, receive, send) -> None:
+        if scope["type"] != "http" or scope["method"] not in BODY_METHODS:
+            await self.app(scope, receive, send)
+            return
+        declared = _content_length(scope["headers"])
+        if declared is not None and declared > self.max_bytes:
+            await self._refuse(scope, send)
+            return
+
+        seen = 0
+        exceeded = False
+        started = False
+
+        async def counting_receive():
+            nonlocal seen, exceeded
+            message = await receive()
+            if message["type"] == "http.request":
+                seen += len(message.get("body", b""))
+                if seen > self.max_bytes:
+                    exceeded = True
+                    raise _TooLarge()
+            return message
+
+        async def guarded_send(message):
+            nonlocal started
+            if exceeded:
+                return  # the app's answer to the interrupted body is dropped; the 413 goes instead
+            started = started or message["type"] == "http.response.start"
+            await send(message)
+
+        try:
+            await self.app(scope, counting_receive, guarded_send)
+        except _TooLarge:
+            pass
+        except Exception:
+            if not exceeded:
+                raise
+        if exceeded and not started:
+            await self._refuse(scope, send)
+
+    async def _refuse(self, scope, send) -> None:
+        status, body = problem_for_error(body_too_large(self.max_bytes), instance=scope.get("path"))
+        response = problem_response(status, body, headers={"Connection": "close"})
+        await response(scope, _no_receive, send)
+
+
+async def _no_receive() -> dict[str, Any]:
+    return {"type": "http.disconnect"}
+
+
+def _content_length(headers: Iterable[tuple[bytes, bytes]]) -> int | None:
+    for name, value in headers:
+        if name == b"content-length":
+            try:
+                return int(value)
+            except ValueError:
+                return None
+    return None
+
+
+def check_string_lengths(fields: dict[str, str | None], limit: int) -> None:
+    """422 naming the first field whose text is longer than the limit."""
+    for name, text in fields.items():
+        if text is not None and len(text) > limit:
+            raise LimitExceeded(f"the text is {len(text):,} characters long; the limit is {limit:,}",
+                                location=Location(field=name), fix=f"Shorten '{name}' to at most {limit:,} characters")

@@ -1,0 +1,64 @@
+"""What one server process holds: its settings, the database engine and repository, and the compute pool.
+
+Built at start-up (the lifespan) and, should a test drive the app without running the lifespan,
+on first use. Holds no audit state of its own, so any number of processes can share one database.
+"""
+
+from __future__ import annotations
+
+import logging
+import threading
+from dataclasses import dataclass
+
+from sqlalchemy import Engine
+
+from app.api.pool import ComputePool
+from app.settings import Settings
+from app.store import AuditRepository, make_engine, migrate
+
+log = logging.getLogger("trendaudit")
+
+
+@dataclass
+class Runtime:
+    settings: Settings
+    engine: Engine
+    audits: AuditRepository
+    pool: ComputePool
+
+    def close(self) -> None:
+        self.pool.shutdown()
+        self.engine.dispose()
+
+
+def start_runtime(settings: Settings) -> Runtime:
+    engine = make_engine(settings.database_url)
+    migrate(engine)
+    if not settings.api_key_list:
+        log.warning("No API keys set (TRENDAUDIT_API_KEYS): creating, listing and deleting audits is open to "
+                    "anyone who can reach this server")
+    return Runtime(settings=settings, engine=engine, audits=AuditRepository(engine),
+                   pool=ComputePool(settings.compute_workers, settings.compute_queue,
+                                    settings.request_timeout_seconds))
+
+
+class RuntimeHolder:
+    """Starts the runtime once per app, however many requests arrive together."""
+
+    def __init__(self, settings: Settings) -> None:
+        self.settings = settings
+        self._runtime: Runtime | None = None
+        self._lock = threading.Lock()
+
+    def get(self) -> Runtime:
+        if self._runtime is None:
+            with self._lock:
+                if self._runtime is None:
+                    self._runtime = start_runtime(self.settings)
+        return self._runtime
+
+    def close(self) -> None:
+        with self._lock:
+            if self._runtime is not None:
+                self._runtime.close()
+                self._runtime = None

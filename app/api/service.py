@@ -1,0 +1,183 @@
+"""From a request to a stored audit: the one path the JSON body, the multipart upload and the CLI share.
+
+    request ─> AuditJob (Series + Claim + AuditOptions + what to store) ─> run_audit ─> audit_document ─> store
+
+Cheap checks (sizes, string lengths, the claim and options, the window against the data) run before
+the job takes a compute slot, so a bad request never waits in the queue.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import hashlib
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from app import __version__
+from app.api.limits import check_string_lengths
+from app.api.schemas import AuditRequest
+from app.audit import AuditOptions, Claim, audit_document, run_audit
+from app.audit.claim import check_claim, check_options
+from app.errors import ClaimError, InputError, Location
+from app.ingest import IngestOptions, Series, check_window_in_series, read_csv_text, series_from_json
+from app.ingest.cells import CellError
+from app.ingest.numbers import normalise
+from app.ingest.times import parse_time
+from app.settings import Settings
+from app.store import AuditRecord, AuditRepository, NewAudit
+
+
+@dataclass(frozen=True)
+class AuditJob:
+    title: str
+    series: Series
+    claim: Claim
+    options: AuditOptions
+    input_document: dict[str, Any]  # everything needed to run the same audit again
+
+
+def series_payload(series: Series) -> dict[str, Any]:
+    """The series as audited, JSON-ready; ``series_from_payload`` reads it back exactly."""
+    return {"time": [float(t) for t in series.time], "value": [float(v) for v in series.value],
+            "time_labels": list(series.time_labels), "sampling": series.sampling, "label": series.label,
+            "units": series.units, "missing_times": list(series.missing_times), "notes": list(series.notes)}
+
+
+def series_from_payload(payload: dict[str, Any]) -> Series:
+    return Series(time=np.asarray(payload["time"], dtype=float), value=np.asarray(payload["value"], dtype=float),
+                  sampling=payload["sampling"], label=payload["label"], units=payload["units"],
+                  missing_times=tuple(payload["missing_times"]), time_labels=tuple(payload["time_labels"]),
+                  notes=tuple(payload["notes"]))
+
+
+def audit_options(values: dict[str, Any], settings: Settings) -> AuditOptions:
+    """Options from the request, with the service's defaults for what was left out; checked."""
+    given = {k: v for k, v in values.items() if v is not None}
+    options = AuditOptions(**{"confidence": settings.default_confidence, "noise": settings.default_noise,
+                              "simulations": settings.default_simulations, **given})
+    check_options(options, settings.max_simulations)
+    return options
+
+
+def claim_time(value: float | int | str, field: str) -> float:
+    """A claimed window edge: numbers are decimal years as written; a year-month, quarter or date string
+    is placed mid-period exactly as the same text in the data would be."""
+    if isinstance(value, str):
+        text = normalise(value)
+        try:
+            return float(text)
+        except ValueError:
+            pass
+        try:
+            return parse_time(text).decimal_year
+        except CellError as error:
+            raise ClaimError(error.message, location=Location(field=field), fix=error.fix) from None
+    return float(value)
+
+
+def make_claim(start: float | int | str, end: float | int | str, kind: str, prefix: str = "claim.") -> Claim:
+    return Claim(start=claim_time(start, f"{prefix}start"), end=claim_time(end, f"{prefix}end"), kind=kind)
+
+
+def default_title(series: Series, claim: Claim) -> str:
+    return f"{series.label or 'Series'}: {claim.kind} claimed {claim.start:g} to {claim.end:g}"
+
+
+def prepare_job(*, title: str, series: Series, claim: Claim, options: AuditOptions, source: dict[str, Any],
+                ingest: dict[str, Any], settings: Settings) -> AuditJob:
+    check_claim(claim)
+    check_window_in_series(series, claim.start, claim.end)
+    title = title.strip() or default_title(series, claim)
+    check_string_lengths({"title": title}, settings.max_string_length)
+    document = {
+        "format": ingest.get("format"),
+        "series": series_payload(series),
+        "claim": dataclasses.asdict(claim),
+        "options": dataclasses.asdict(options),
+        "source": source,
+        "ingest": ingest,
+    }
+    return AuditJob(title=title, series=series, claim=claim, options=options, input_document=document)
+
+
+def job_from_json(request: AuditRequest, settings: Settings) -> AuditJob:
+    check_string_lengths({"title": request.title, "series.label": request.series.label,
+                          "series.units": request.series.units, "source.name": request.source.name,
+                          "source.url": request.source.url, "source.notes": request.source.notes,
+                          **{f"series.time[{i}]": t for i, t in enumerate(request.series.time) if isinstance(t, str)}},
+                         settings.max_string_length)
+    ingest_values = request.ingest.model_dump()
+    ingest_options = IngestOptions(
+        decimal_comma=ingest_values["decimal_comma"],
+        missing_sentinels=tuple(ingest_values["missing_sentinels"]),
+        anomaly_base=ingest_values["anomaly_base"], annual_means=ingest_values["annual_means"],
+        max_points=settings.max_points,
+        **({"min_months_per_year": ingest_values["min_months_per_year"]}
+           if ingest_values["min_months_per_year"] is not None else {}))
+    series = series_from_json(request.series.model_dump(exclude_none=True), ingest_options, field="series")
+    options = audit_options(request.options.model_dump(), settings)
+    claim = make_claim(request.claim.start, request.claim.end, request.claim.kind)
+    return prepare_job(title=request.title, series=series, claim=claim, options=options,
+                       source=request.source.model_dump(), settings=settings,
+                       ingest={"format": "json", "options": dataclasses.asdict(ingest_options)})
+
+
+def job_from_csv(data: str | bytes, *, claim: Claim, options: AuditOptions, settings: Settings, title: str = "",
+                 time_column: str | None = None, value_column: str | None = None, decimal_comma: bool = False,
+                 missing_sentinels: tuple[float, ...] = (), source: dict[str, Any] | None = None,
+                 filename: str | None = None) -> AuditJob:
+    check_string_lengths({"title": title, "time_column": time_column, "value_column": value_column,
+                          "filename": filename}, settings.max_string_length)
+    ingest_options = IngestOptions(time_column=time_column, value_column=value_column, decimal_comma=decimal_comma,
+                                   missing_sentinels=missing_sentinels, max_points=settings.max_points)
+    table = read_csv_text(data, ingest_options)
+    raw = data.encode("utf-8") if isinstance(data, str) else data
+    return prepare_job(
+        title=title, series=table.series, claim=claim, options=options, source=source or {}, settings=settings,
+        ingest={"format": "csv", "options": dataclasses.asdict(ingest_options), "filename": filename,
+                "file_sha256": hashlib.sha256(raw).hexdigest(), "delimiter": table.delimiter,
+                "columns": list(table.columns), "time_column": table.time_column,
+                "value_column": table.value_column, "month_column": table.month_column})
+
+
+def compute_document(job: AuditJob) -> dict[str, Any]:
+    """The CPU-bound part: runs in the compute pool (or directly, from the CLI)."""
+    return audit_document(run_audit(job.series, job.claim, job.options))
+
+
+def store_audit(audits: AuditRepository, job: AuditJob, document: dict[str, Any]) -> tuple[AuditRecord, str]:
+    seed = document.get("seed")
+    input_document = {**job.input_document, "options": {**job.input_document["options"], "seed": seed}}
+    verdict = document.get("verdict") or {}
+    summary = {"verdict": {"code": verdict.get("code"), "headline": verdict.get("headline")},
+               "claim": input_document["claim"], "n": job.series.n, "label": job.series.label}
+    return audits.create(NewAudit(
+        title=job.title, input_document=input_document, result_document=document,
+        input_sha256=(document.get("inputs") or {}).get("sha256") or job.series.sha256(), seed=seed,
+        software_version=document.get("software_version") or __version__, summary=summary))
+
+
+def audit_links(audit_id: str, settings: Settings) -> dict[str, str]:
+    base = settings.public_base_url.rstrip("/")
+    return {"url": f"{base}/api/v1/audits/{audit_id}", "report_url": f"{base}/audits/{audit_id}",
+            "data_url": f"{base}/api/v1/audits/{audit_id}/data.csv"}
+
+
+def audit_body(record: AuditRecord, settings: Settings, owner_token: str | None = None) -> dict[str, Any]:
+    """The answer for one audit: who and where first, then the result document as stored."""
+    head: dict[str, Any] = {"id": record.id, "kind": record.kind, "title": record.title,
+                            "created_at": record.created_at.isoformat().replace("+00:00", "Z"),
+                            **audit_links(record.id, settings)}
+    if owner_token is not None:
+        head["owner_token"] = owner_token
+    return {**head, **{k: v for k, v in record.result_document.items() if k not in head}}
+
+
+def rename_fields(error: InputError, names: dict[str, str]) -> InputError:
+    """Points an error at the form field the user filled in, when its JSON name differs."""
+    field = error.location.field
+    if field in names:
+        error.location = dataclasses.replace(error.location, field=names[field])
+    return error
