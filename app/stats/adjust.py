@@ -292,7 +292,8 @@ def _check_inputs(t, y, covariates, points_per_year) -> tuple[np.ndarray, np.nda
     seen: dict[str, int] = {}
     for i, cov in enumerate(checked):
         if cov.name.lower() in seen:
-            raise SeriesFormatError(f"two covariates are named '{cov.name}'", location=Location(field=f"covariates[{i}].name"),
+            raise SeriesFormatError(f"two covariates are named '{cov.name}'",
+                                    location=Location(field=f"covariates[{i}].name"),
                                     fix="Give each covariate its own name")
         seen[cov.name.lower()] = i
     return t, y, checked
@@ -388,7 +389,8 @@ def _scores_for(i: int, base: np.ndarray, columns: list[np.ndarray], lags: list[
     return _criteria(np.concatenate(parts, axis=2), y, rule)
 
 
-def choose_lags(base: np.ndarray, columns: list[np.ndarray], y: np.ndarray, rule: str) -> tuple[list[int], list[np.ndarray], int]:
+def choose_lags(base: np.ndarray, columns: list[np.ndarray], y: np.ndarray,
+                rule: str) -> tuple[list[int], list[np.ndarray], int]:
     """Coordinate descent over the lag grid: each covariate's lag in turn, all its lags scored at once.
 
     Starts from each covariate's best lag alone (with the trend), sweeps until no lag moves. Ties go to

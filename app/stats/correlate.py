@@ -125,7 +125,8 @@ def transform_driver(t: np.ndarray, x: np.ndarray, kind: str, step: float) -> np
         if bad.size:
             raise SeriesContentError(f"the driver is {x[bad[0]]:g} at {t[bad[0]]:g}; a logarithm needs positive values",
                                      location=Location(field="driver.value"),
-                                     fix="Use the 'none' transform, or a driver in absolute units (ppm rather than an anomaly)")
+                                     fix="Use the 'none' transform, or a driver in absolute units "
+                                         "(ppm rather than an anomaly)")
         return np.log(x)
     if kind == "cumulative":
         holes = np.flatnonzero(np.diff(t) > GAP_STEPS * step)

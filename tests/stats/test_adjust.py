@@ -123,7 +123,8 @@ def test_coordinate_descent_finds_the_brute_force_optimum():
     lagged = [lagged_values(t, c, 1 / 12, 6) for c in covs]
     used = np.all([np.all(np.isfinite(rows), axis=0) for rows in lagged], axis=0)
     tc = t[used] - t[used].mean()
-    ssr = {(a, b): sm.OLS(y[used], np.column_stack([np.ones(tc.size), tc, lagged[0][a, used], lagged[1][b, used]])).fit().ssr
+    ones = np.ones(tc.size)
+    ssr = {(a, b): sm.OLS(y[used], np.column_stack([ones, tc, lagged[0][a, used], lagged[1][b, used]])).fit().ssr
            for a in range(7) for b in range(7)}
     assert (fit.factors[0].lag, fit.factors[1].lag) == min(ssr, key=ssr.get)
 
