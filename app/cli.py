@@ -120,8 +120,8 @@ def summary_text(title: str, doc: dict[str, Any]) -> str:
 
     def r(slope, ci=None) -> str:
         text = format_rate(slope, rate["factor"], rate["unit"], units)
-        if ci:
-            lo, hi = (format_rate(c, rate["factor"], rate["unit"], "") for c in ci)
+        if ci and all(c is not None for c in ci):
+            lo, hi = (f"{c * rate['factor']:+.3g}" for c in ci)
             text += f" (range {lo} to {hi})"
         return text
 

@@ -1,0 +1,107 @@
+"""The command line: `trendaudit audit FILE.csv` runs the API's own path without a server."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+
+import pytest
+from fastapi.testclient import TestClient
+
+from app import __version__
+from app.cli import EXIT_INPUT_ERROR, main
+from app.main import create_app
+from app.settings import PROJECT_ROOT, Settings
+
+YEARS = list(range(1950, 2025))
+# Invented data: a trend of 0.02 per year with a fixed wiggle, no randomness needed.
+VALUES = [round(0.02 * (y - 1950) + 0.15 * ((y * 7919) % 13 - 6) / 6, 4) for y in YEARS]
+AUDIT_ARGS = ["--start", "1998", "--end", "2013", "--kind", "pause", "--simulations", "200", "--seed", "99"]
+
+
+@pytest.fixture
+def csv_file(tmp_path):
+    path = tmp_path / "series.csv"
+    path.write_text("year;anomaly\n" + "".join(f"{y};{v}\n" for y, v in zip(YEARS, VALUES)), encoding="utf-8")
+    return path
+
+
+@pytest.fixture(autouse=True)
+def private_settings(monkeypatch, tmp_path):
+    # The CLI reads TRENDAUDIT_* like the server; keep it away from the developer's own database.
+    monkeypatch.setenv("TRENDAUDIT_DATABASE_URL", f"sqlite:///{tmp_path / 'cli.sqlite3'}")
+
+
+def test_audit_prints_a_readable_summary(csv_file, capsys):
+    assert main(["audit", str(csv_file), *AUDIT_ARGS]) == 0
+    out = capsys.readouterr().out
+    assert "Verdict:" in out
+    assert "Long-term trend" in out and "Claimed window 1998 to 2013" in out
+    assert "seed 99" in out and f"trendaudit {__version__}" in out
+
+
+def test_audit_json_matches_the_api_for_the_same_input_and_seed(csv_file, capsys, tmp_path):
+    assert main(["audit", str(csv_file), *AUDIT_ARGS, "--json"]) == 0
+    printed = json.loads(capsys.readouterr().out)
+    settings = Settings(database_url=f"sqlite:///{tmp_path / 'api.sqlite3'}", api_keys="")
+    with TestClient(create_app(settings)) as client:
+        response = client.post("/api/v1/audits", files={"file": ("series.csv", csv_file.read_bytes(), "text/csv")},
+                               data={"claim_start": "1998", "claim_end": "2013", "claim_kind": "pause",
+                                     "simulations": "200", "seed": "99"})
+    assert response.status_code == 201, response.text
+    from_api = response.json()
+    for section in ("verdict", "reference", "long_term", "window", "trend_change", "spell", "segments",
+                    "detectability", "inputs", "seed", "software_version"):
+        assert printed[section] == from_api[section], section
+
+
+def test_claim_times_may_be_written_like_the_data(csv_file, capsys):
+    assert main(["audit", str(csv_file), "--start", "1998-01-01", "--end", "2013", "--simulations", "200",
+                 "--seed", "1", "--json"]) == 0
+    document = json.loads(capsys.readouterr().out)
+    assert document["claim"]["start"] == pytest.approx(1998 + 0.5 / 365)
+
+
+@pytest.mark.parametrize("extra, message", [
+    (["--value-column", "temperature"], "temperature"),
+    (["--start", "1700", "--end", "1720"], "outside the data"),
+    (["--start", "nineteen"], "nineteen"),
+    (["--simulations", "5"], "simulations"),
+    (["--confidence", "3"], "confidence"),
+])
+def test_input_errors_exit_2_with_a_clear_message(csv_file, capsys, extra, message):
+    args = ["audit", str(csv_file), *AUDIT_ARGS, *extra]
+    assert main(args) == EXIT_INPUT_ERROR
+    captured = capsys.readouterr()
+    assert captured.out == ""
+    assert message in captured.err and str(csv_file) in captured.err
+
+
+def test_unreadable_file_exits_2(tmp_path, capsys):
+    assert main(["audit", str(tmp_path / "missing.csv"), *AUDIT_ARGS]) == EXIT_INPUT_ERROR
+    assert "cannot read" in capsys.readouterr().err
+
+
+def test_file_that_is_not_csv_exits_2(tmp_path, capsys):
+    path = tmp_path / "book.xlsx"
+    path.write_bytes(b"PK\x03\x04" + bytes(100))
+    assert main(["audit", str(path), *AUDIT_ARGS]) == EXIT_INPUT_ERROR
+    assert "CSV" in capsys.readouterr().err
+
+
+def test_missing_required_option_is_a_usage_error(csv_file, capsys):
+    with pytest.raises(SystemExit) as exit_info:
+        main(["audit", str(csv_file), "--end", "2013"])
+    assert exit_info.value.code == EXIT_INPUT_ERROR
+    assert "--start" in capsys.readouterr().err
+
+
+def test_python_dash_m_runs_the_cli(csv_file, tmp_path):
+    version = subprocess.run([sys.executable, "-m", "app.cli", "--version"], cwd=PROJECT_ROOT, capture_output=True,
+                             text=True, timeout=60)
+    assert version.returncode == 0 and __version__ in version.stdout
+    bad = subprocess.run([sys.executable, "-m", "app.cli", "audit", str(csv_file), *AUDIT_ARGS,
+                          "--time-column", "when"], cwd=PROJECT_ROOT, capture_output=True, text=True, timeout=120)
+    assert bad.returncode == EXIT_INPUT_ERROR
+    assert "when" in bad.stderr and "Traceback" not in bad.stderr
