@@ -86,8 +86,10 @@ def server(tmp_path_factory) -> Iterator[str]:
         log.close()
 
 
-@pytest.fixture(scope="session")
+@pytest.fixture(scope="module")
 def browser():
+    # Module scope, not session: while Playwright's sync API is open it holds a running asyncio loop in
+    # this thread, and any later test that calls asyncio.run() would fail.
     reason = _browser_missing_reason()
     if reason:
         pytest.fail(f"TRENDAUDIT_REQUIRE_BROWSER=1 but {reason}")
