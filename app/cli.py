@@ -28,8 +28,8 @@ def _parser() -> argparse.ArgumentParser:
     commands = parser.add_subparsers(dest="command", required=True)
 
     serve = commands.add_parser("serve", help="run the web service")
-    serve.add_argument("--host", default=None, help="address to bind (default 127.0.0.1)")
-    serve.add_argument("--port", type=int, default=None, help="port (default 8000)")
+    serve.add_argument("--host", default=None, help="address to bind (default TRENDAUDIT_HOST, else 127.0.0.1)")
+    serve.add_argument("--port", type=int, default=None, help="port (default TRENDAUDIT_PORT, else 8000)")
     serve.add_argument("--workers", type=int, default=1, help="server processes sharing one database")
 
     audit = commands.add_parser("audit", help="audit a CSV file and print the result")
@@ -62,7 +62,7 @@ def serve(host: str | None, port: int | None, workers: int) -> int:
     from app.settings import Settings
 
     settings = Settings()
-    host = host or "127.0.0.1"
+    host = host or settings.host  # 127.0.0.1 unless TRENDAUDIT_HOST says otherwise
     port = port or settings.port
     logging.basicConfig(level=logging.INFO, format="%(levelname)s: %(message)s")
     if not settings.api_key_list:

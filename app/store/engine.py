@@ -46,7 +46,11 @@ def make_engine(database_url: str) -> Engine:
         return engine
     if make_url(database_url).get_backend_name() == "sqlite":
         raise ValueError("an in-memory SQLite database cannot be shared between requests; give a file path")
-    return create_engine(database_url, json_serializer=_finite_json, pool_pre_ping=True)
+    url = make_url(database_url)
+    if url.drivername == "postgresql":
+        # A bare postgresql:// would ask for psycopg2; the project ships psycopg 3.
+        url = url.set(drivername="postgresql+psycopg")
+    return create_engine(url, json_serializer=_finite_json, pool_pre_ping=True)
 
 
 def _configure_sqlite(engine: Engine) -> None:

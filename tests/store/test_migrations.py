@@ -88,3 +88,8 @@ def test_sqlite_file_gets_its_directory_and_durable_settings(tmp_path):
 def test_in_memory_sqlite_is_refused():
     with pytest.raises(ValueError, match="in-memory"):
         make_engine("sqlite://")
+
+
+def test_a_bare_postgresql_url_uses_psycopg_3():
+    engine = make_engine("postgresql://user@127.0.0.1:1/none")  # nothing connects until first use
+    assert engine.dialect.driver == "psycopg"
