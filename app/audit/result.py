@@ -35,6 +35,14 @@ class WholeRecordCheck:
 
 
 @dataclass(frozen=True)
+class Adjustment:
+    """The covariate fit and the full audit of the adjusted series."""
+
+    fit: Any  # stats.adjust.AdjustmentResult
+    audit: "AuditResult"
+
+
+@dataclass(frozen=True)
 class AuditResult:
     series: Series
     claim: Claim
@@ -66,4 +74,5 @@ class AuditResult:
     whole_record: WholeRecordCheck
     verdict: Verdict
     verdict_inputs: VerdictInputs
+    adjustment: Adjustment | None
     elapsed_seconds: float

@@ -8,6 +8,7 @@ test and simulation for the window.
 from __future__ import annotations
 
 import dataclasses
+from typing import Sequence
 import time as _time
 
 import numpy as np
@@ -15,10 +16,11 @@ import numpy as np
 from app import __version__
 from app.audit.claim import RATE_UNITS, AuditOptions, Claim, check_claim
 from app.audit.reference import choose_reference
-from app.audit.result import AuditResult, RobustnessRow, WholeRecordCheck
+from app.audit.result import Adjustment, AuditResult, RobustnessRow, WholeRecordCheck
 from app.audit.verdict import VerdictInputs, decide, decide_code, format_rate
 from app.errors import ClaimError, Location
 from app.ingest.series import Series
+from app.stats.adjust import Covariate, fit_covariates
 from app.stats.breaks import break_test, sup_f_test
 from app.stats.detect import detection_power, years_to_detect
 from app.stats.noise import NoiseModel, estimate_noise
@@ -110,7 +112,9 @@ def _verdict_inputs(claim, tw, yw, lt_estimate, lt_mk_p, noise, method, options,
     return inputs, window, weaker, stronger
 
 
-def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions()) -> AuditResult:
+def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions(),
+              covariates: Sequence[Covariate] = ()) -> AuditResult:
+    """Audit ``claim`` against ``series``; with covariates, audit the adjusted series too (same seed)."""
     check_claim(claim)
     started = _time.perf_counter()
     seed = options.seed if options.seed is not None else draw_seed()
@@ -181,8 +185,21 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
         sensitivity=sensitivity, endpoints=endpoints, years_to_detect=ytd, window_power=window_power,
         detect_curve=detect_curve, window_mann_kendall=mann_kendall(yw, alpha=alpha),
         window_sen=sen_slope(tw, yw, confidence=options.confidence), robustness=robustness, whole_record=whole,
-        verdict=verdict, verdict_inputs=inputs, elapsed_seconds=_time.perf_counter() - started,
+        verdict=verdict, verdict_inputs=inputs, adjustment=_adjust(series, claim, options, covariates),
+        elapsed_seconds=_time.perf_counter() - started,
     )
+
+
+def _adjust(series: Series, claim: Claim, options: AuditOptions, covariates: Sequence[Covariate]) -> Adjustment | None:
+    """Take the known short-term factors out (Foster & Rahmstorf 2011) and audit what is left."""
+    if not covariates:
+        return None
+    fit = fit_covariates(series.time, series.value, covariates, series.points_per_year, noise_kind=options.noise,
+                         confidence=options.confidence)
+    adjusted = Series(time=fit.time, value=fit.adjusted, sampling=series.sampling,
+                      label=f"{series.label} (adjusted)".strip(), units=series.units,
+                      notes=series.notes + ("adjusted for " + ", ".join(c.name for c in covariates),))
+    return Adjustment(fit=fit, audit=run_audit(adjusted, claim, options))
 
 
 def _detect_curve(slope, noise, ppy, alpha, n_reference) -> tuple[tuple[float, float], ...]:

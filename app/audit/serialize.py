@@ -92,6 +92,21 @@ def _segmentation(seg) -> dict[str, Any]:
             "criterion": {str(k): v for k, v in seg.criterion.items()}, "fitted": seg.fitted}
 
 
+def _adjustment(adjustment) -> dict[str, Any] | None:
+    if adjustment is None:
+        return None
+    fit = adjustment.fit
+    return {
+        "factors": [{"name": f.name, "coefficient": f.coefficient, "ci": list(f.ci), "stderr": f.stderr,
+                     "p_value": f.p_value, "lag": f.lag, "lag_years": f.lag_years, "variance_share": f.variance_share}
+                    for f in fit.factors],
+        "residual_sd_raw": fit.residual_sd_raw, "residual_sd_adjusted": fit.residual_sd_adjusted,
+        "trend_slope": fit.trend_slope, "trend_ci": list(fit.trend_ci), "n_used": fit.n_used,
+        "dropped_times": list(fit.dropped_times), "lag_rule": fit.lag_rule,
+        "audit": audit_document(adjustment.audit),
+    }
+
+
 def audit_document(result: AuditResult) -> dict[str, Any]:
     r = result
     series, claim, options = r.series, r.claim, r.options
@@ -147,6 +162,7 @@ def audit_document(result: AuditResult) -> dict[str, Any]:
                           "power": r.window_power, "curve": [{"years": a, "power": b} for a, b in r.detect_curve]},
         "robustness": [jsonable(row) for row in r.robustness],
         "whole_record": jsonable(r.whole_record),
+        "adjustment": _adjustment(r.adjustment),
         "curves": {"time": series.time, "value": series.value,
                    "reference_line": _band(series.time[in_ref], lt.fit, lt.chosen.stderr, options.confidence,
                                            lt.chosen.dof),

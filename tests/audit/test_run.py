@@ -116,3 +116,20 @@ def test_the_document_has_every_field_the_api_promises():
         for key in path.split("."):
             assert key in node, path
             node = node[key]
+
+
+def test_covariates_are_taken_out_and_the_adjusted_series_audited():
+    from app.stats.adjust import Covariate
+
+    rng = np.random.default_rng(13)
+    index = rng.standard_normal(YEARS.size)  # an invented oscillation index, lag 0
+    y = 0.015 * (YEARS - YEARS[0]) + 0.2 * index + red_noise(14, sigma=0.05)
+    result = run_audit(annual(y), Claim(1998.0, 2012.9, "pause"), AuditOptions(simulations=300, seed=3),
+                       covariates=[Covariate("index", YEARS.copy(), index, max_lag=2)])
+    doc = audit_document(result)
+    factor = doc["adjustment"]["factors"][0]
+    assert factor["lag"] == 0 and factor["ci"][0] < 0.2 < factor["ci"][1]
+    assert doc["adjustment"]["residual_sd_adjusted"] < doc["adjustment"]["residual_sd_raw"]
+    assert doc["adjustment"]["audit"]["verdict"]["code"] in {"consistent_with_trend", "too_short_to_tell",
+                                                              "claim_contradicted"}
+    assert doc["adjustment"]["audit"]["adjustment"] is None
