@@ -128,14 +128,16 @@ def job_from_csv(data: str | bytes, *, claim: Claim, options: AuditOptions, sett
                  time_column: str | None = None, value_column: str | None = None, decimal_comma: bool = False,
                  missing_sentinels: tuple[float, ...] = (), source: dict[str, Any] | None = None,
                  filename: str | None = None) -> AuditJob:
+    source = source or {}
     check_string_lengths({"title": title, "time_column": time_column, "value_column": value_column,
-                          "filename": filename}, settings.max_string_length)
+                          "filename": filename, **{f"source_{k}": v for k, v in source.items()}},
+                         settings.max_string_length)
     ingest_options = IngestOptions(time_column=time_column, value_column=value_column, decimal_comma=decimal_comma,
                                    missing_sentinels=missing_sentinels, max_points=settings.max_points)
     table = read_csv_text(data, ingest_options)
     raw = data.encode("utf-8") if isinstance(data, str) else data
     return prepare_job(
-        title=title, series=table.series, claim=claim, options=options, source=source or {}, settings=settings,
+        title=title, series=table.series, claim=claim, options=options, source=source, settings=settings,
         ingest={"format": "csv", "options": dataclasses.asdict(ingest_options), "filename": filename,
                 "file_sha256": hashlib.sha256(raw).hexdigest(), "delimiter": table.delimiter,
                 "columns": list(table.columns), "time_column": table.time_column,

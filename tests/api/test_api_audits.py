@@ -300,3 +300,11 @@ def test_over_long_strings_are_422_naming_the_field(make_client, path, make_body
     client = make_client(max_string_length=100)
     body = assert_problem(client.post("/api/v1/audits", json=make_body("x" * 101)), 422, path)
     assert "100" in body["detail"]
+
+
+@pytest.mark.parametrize("field", ["title", "source_notes", "time_column"])
+def test_over_long_form_fields_are_422_naming_the_field(make_client, field):
+    client = make_client(max_string_length=100)
+    response = client.post("/api/v1/audits", data=form(**{field: "y" * 101}),
+                           files={"file": ("s.csv", csv_text(), "text/csv")})
+    assert_problem(response, 422, field)
