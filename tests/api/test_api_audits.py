@@ -308,3 +308,27 @@ def test_over_long_form_fields_are_422_naming_the_field(make_client, field):
     response = client.post("/api/v1/audits", data=form(**{field: "y" * 101}),
                            files={"file": ("s.csv", csv_text(), "text/csv")})
     assert_problem(response, 422, field)
+
+
+def test_json_ingest_options_are_applied_and_stored(client):
+    series = invented_series()
+    series["value"][10] = -999
+    created = client.post("/api/v1/audits", json=audit_body(series=series, ingest={"missing_sentinels": [-999]}))
+    assert created.status_code == 201, created.text
+    body = created.json()
+    assert body["inputs"]["n"] == len(series["time"]) - 1
+    stored = client.app.state.runtime.get().audits.get(body["id"]).input_document
+    assert stored["ingest"]["options"]["missing_sentinels"] == [-999.0]
+    assert stored["series"]["missing_times"] == [series["time"][10] + 0.5]
+
+
+def test_claim_edges_may_be_written_like_the_data(client):
+    months = [f"{1980 + i // 12}-{i % 12 + 1:02d}" for i in range(12 * 40)]
+    values = [0.0015 * i + 0.1 * ((i * 7919) % 11 - 5) / 5 for i in range(len(months))]
+    body = audit_body(series={"time": months, "value": values}, claim={"start": "2005-01", "end": "2014-12"})
+    created = client.post("/api/v1/audits", json=body)
+    assert created.status_code == 201, created.text
+    claim = created.json()["claim"]
+    assert claim["start"] == pytest.approx(2005 + 0.5 / 12) and claim["end"] == pytest.approx(2014 + 11.5 / 12)
+    bad = client.post("/api/v1/audits", json={**body, "claim": {"start": "2005-13", "end": "2014-12"}})
+    assert_problem(bad, 422, "claim.start")
