@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import numpy as np
+
 from app.errors import ClaimError, Location
 
 CLAIM_KINDS = ("pause", "slowdown", "reversal", "acceleration")
@@ -88,3 +90,14 @@ def check_options(options: AuditOptions, max_simulations: int, field: str = "opt
         raise ClaimError("the reference period's start is not before its end",
                          location=Location(field=f"{field}.reference_start"),
                          fix="Give a reference start earlier than its end, or leave both out")
+
+
+def window_mask(series, start: float, end: float) -> np.ndarray:
+    """Points whose sampling period overlaps [start, end].
+
+    Times sit mid-period, so "1998 to 2012" on annual data must take 1998.5 and 2012.5: a point belongs
+    to the window when its period [t - step/2, t + step/2) meets the claimed interval.
+    """
+    half = series.step / 2.0
+    eps = 1e-9
+    return (series.time - half <= end + eps) & (series.time + half > start + eps)

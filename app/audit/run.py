@@ -14,7 +14,7 @@ import time as _time
 import numpy as np
 
 from app import __version__
-from app.audit.claim import RATE_UNITS, AuditOptions, Claim, check_claim
+from app.audit.claim import RATE_UNITS, AuditOptions, Claim, check_claim, window_mask
 from app.audit.reference import choose_reference
 from app.audit.result import Adjustment, AuditResult, RobustnessRow, WholeRecordCheck
 from app.audit.verdict import VerdictInputs, decide, decide_code, format_rate
@@ -57,7 +57,7 @@ def _window_mask(series: Series, claim: Claim) -> np.ndarray:
         raise ClaimError(f"the window {claim.start:g} to {claim.end:g} lies outside the data "
                          f"({series.start:.4g} to {series.end:.4g})", location=Location(field="claim.start"),
                          fix="Choose a window within the series' time range")
-    mask = (series.time >= claim.start) & (series.time <= claim.end)
+    mask = window_mask(series, claim.start, claim.end)
     if int(mask.sum()) < MIN_WINDOW_POINTS:
         raise ClaimError(f"the window {claim.start:g} to {claim.end:g} holds {int(mask.sum())} data points; "
                          f"at least {MIN_WINDOW_POINTS} are needed for a trend", location=Location(field="claim.end"),
@@ -166,9 +166,9 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
                                                        alpha, change, spell.probability, ytd, units)
     verdict = decide(inputs)
 
-    sensitivity = window_sensitivity(t, y, claim.start, claim.end, k_years=options.sensitivity_years,
+    sensitivity = window_sensitivity(t, y, float(tw[0]), float(tw[-1]), k_years=options.sensitivity_years,
                                      long_term_slope=lt_estimate.slope)
-    endpoints = endpoint_outliers(t, y, claim.start, claim.end, long_term.fit.line(t), noise.marginal_sd)
+    endpoints = endpoint_outliers(t, y, float(tw[0]), float(tw[-1]), long_term.fit.line(t), noise.marginal_sd)
     robustness = _robustness(claim, tw, yw, tr, yr, segment_residuals[in_ref], options, alpha, change,
                              spell.probability, ppy, units, rng, verdict.code)
     whole = _whole_record(series, claim, tw, yw, segment_residuals, options, alpha, spell.probability, ppy, units,

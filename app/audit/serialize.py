@@ -13,7 +13,7 @@ from typing import Any
 import numpy as np
 from scipy import stats as _scipy_stats
 
-from app.audit.claim import RATE_UNITS
+from app.audit.claim import RATE_UNITS, window_mask
 from app.audit.result import AuditResult
 
 DOCUMENT_SCHEMA = "trendaudit.audit/1"
@@ -112,7 +112,7 @@ def audit_document(result: AuditResult) -> dict[str, Any]:
     series, claim, options = r.series, r.claim, r.options
     lt = r.long_term
     in_ref = (series.time >= r.reference.start) & (series.time <= r.reference.end)
-    in_win = (series.time >= claim.start) & (series.time <= claim.end)
+    in_win = window_mask(series, claim.start, claim.end)
     says_faster = claim.says_faster
     doc = {
         "schema": DOCUMENT_SCHEMA,
