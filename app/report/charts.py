@@ -26,6 +26,7 @@ from app.report.figures import lay_out, new_figure, styled
 from app.report.numbers import Rate, format_p, format_percent, format_years, is_number, time_of
 
 MAX_CELL_TICKS = 7
+GAP_FACTOR = 1.5  # a step this many times the usual one means values are missing between
 LABEL_WRAP = 80  # characters per line of a series name above a chart
 CHART_NAMES = ("series", "null", "sensitivity", "segments", "detectability")
 
@@ -82,8 +83,18 @@ def _band(ax, line: dict[str, Any], colour: str, label: str, linestyle: str) -> 
     ax.plot(t, _array(line["value"]), color=colour, linewidth=2.0, linestyle=linestyle, label=label)
 
 
+def broken_at_gaps(t: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The line interrupted where values are missing, so a gap is never drawn as if it had been measured."""
+    if t.size < 3:
+        return t, y
+    steps = np.diff(t)
+    gaps = np.flatnonzero(steps > GAP_FACTOR * np.median(steps)) + 1
+    return np.insert(t, gaps, np.nan), np.insert(y, gaps, np.nan)
+
+
 def _observed(ax, t: np.ndarray, y: np.ndarray, label: str = "Data") -> None:
-    ax.plot(t, y, color=palette.OBSERVED, linewidth=0.8 if t.size > 200 else 1.0, label=label, zorder=1)
+    ax.plot(*broken_at_gaps(t, y), color=palette.OBSERVED, linewidth=0.8 if t.size > 200 else 1.0, label=label,
+            zorder=1)
     if t.size <= 200:
         ax.plot(t, y, linestyle="none", marker="o", markersize=2.2, color=palette.OBSERVED, zorder=1)
 
@@ -361,6 +372,7 @@ def preview_chart(time: np.ndarray, value: np.ndarray, label: str, units: str) -
     """The small picture of what was read, shown before the audit runs."""
     fig = new_figure(6.4)
     ax = fig.add_subplot()
-    ax.plot(np.asarray(time, dtype=float), np.asarray(value, dtype=float), color=palette.OBSERVED, linewidth=0.9)
+    ax.plot(*broken_at_gaps(np.asarray(time, dtype=float), np.asarray(value, dtype=float)), color=palette.OBSERVED,
+            linewidth=0.9)
     lay_out(fig, ax, plot_height=1.5, title=_name_values(ax, label, units))
     return fig

@@ -23,6 +23,7 @@ from app.errors import AccessDenied, InputError, Location, TrendAuditError
 from app.ingest import IngestOptions, ParsedTable, read_csv_text
 from app.ingest.decode import decode_text
 from app.report.chart_cache import chart_views
+from app.report.context import CLAIM_WORDS
 from app.report.render import render_page
 from app.settings import Settings
 from app.web.access import (check_key, forget_key, has_access, keys_required, remember_key, require_access,
@@ -77,7 +78,8 @@ def _desk(request: Request, *, form: DeskForm, preview: PreviewView | None = Non
 
 def _sample_defaults(entry: dict[str, Any]) -> dict[str, str]:
     claim = entry.get("suggested_claim") or {}
-    title = f"Claim check: a {claim.get('kind', 'pause')} in {entry.get('title', 'the sample')}, {claim.get('start')} to {claim.get('end')}"
+    kind = CLAIM_WORDS.get(claim.get("kind", "pause"), "a change")
+    title = f"Claim check: {kind} in {entry.get('title', 'the sample')}, {claim.get('start')} to {claim.get('end')}"
     return {"title": title, "label": entry.get("title", ""),
             "units": entry.get("units", ""), "claim_start": str(claim.get("start", "")),
             "claim_end": str(claim.get("end", "")), "claim_kind": str(claim.get("kind", "")),

@@ -6,6 +6,7 @@ import json
 import re
 import xml.etree.ElementTree as ET
 
+import numpy as np
 import pytest
 
 from app.report.chart_cache import chart_file, chart_views
@@ -123,3 +124,14 @@ def test_unknown_chart_names_and_formats_are_not_found(document):
         chart_file("audit-one", document, "pie", "svg")
     with pytest.raises(NotFound):
         chart_file("audit-one", document, "series", "gif")
+
+
+def test_lines_break_where_values_are_missing():
+    from app.report.charts import broken_at_gaps
+
+    t = np.array([1990.5, 1991.5, 1992.5, 1995.5, 1996.5])
+    y = np.arange(5.0)
+    gap_t, gap_y = broken_at_gaps(t, y)
+    assert np.isnan(gap_t[3]) and np.isnan(gap_y[3]) and gap_t.size == 6
+    whole_t, _ = broken_at_gaps(t[:3], y[:3])
+    assert not np.isnan(whole_t).any()

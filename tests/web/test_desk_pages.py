@@ -94,6 +94,7 @@ def test_running_an_audit_redirects_to_its_report(client):
 def test_a_samples_own_kind_of_claim_is_chosen(client):
     html = client.get("/", params={"sample": "lake-orrindal-ice-days"}).text  # its claim: a reversal
     assert '<option value="reversal" selected>' in html
+    assert "Claim check: a reversal in " in html
     assert '<option value="pause" selected>' not in html
 
 
