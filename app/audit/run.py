@@ -19,6 +19,7 @@ from app.audit.reference import choose_reference
 from app.audit.result import Adjustment, AuditResult, RobustnessRow, WholeRecordCheck
 from app.audit.verdict import VerdictInputs, decide, decide_code, format_rate
 from app.errors import ClaimError, Location
+from app.ingest.sampling import period_label
 from app.ingest.series import Series
 from app.stats.adjust import Covariate, fit_covariates
 from app.stats.breaks import break_test, sup_f_test
@@ -94,7 +95,8 @@ def _change_tests(t, y, claim_start, direction, noise, noise_kind, sims, rng, rn
     return _ChangeTests(hinge, broken, sup_hinge, sup_broken)
 
 
-def _verdict_inputs(claim, tw, yw, lt_estimate, lt_mk_p, noise, method, options, alpha, change, spell_p, ytd, units):
+def _verdict_inputs(claim, tw, yw, lt_estimate, lt_mk_p, noise, method, options, alpha, change, spell_p, ytd,
+                    series: Series):
     window = slope_uncertainty(tw, yw, method=method, confidence=options.confidence, noise=noise)
     trend_sign = 1 if lt_estimate.slope >= 0 else -1
     weaker = compare_slopes(window, lt_estimate, alternative="less" if trend_sign > 0 else "greater")
@@ -107,7 +109,8 @@ def _verdict_inputs(claim, tw, yw, lt_estimate, lt_mk_p, noise, method, options,
         window_p_weaker=weaker.p_value, window_p_stronger=stronger.p_value,
         change_p_nominal=change.hinge.p_value_nominal, change_p_adjusted=change.sup_f.p_value_adjusted,
         spell_probability=spell_p, years_to_detect=ytd, rate_factor=RATE_UNITS[options.rate_unit],
-        rate_unit=options.rate_unit, units=units,
+        rate_unit=options.rate_unit, units=series.units, first_label=period_label(float(tw[0]), series.sampling),
+        last_label=period_label(float(tw[-1]), series.sampling), span_years=float(tw[-1] - tw[0]) + series.step,
     )
     return inputs, window, weaker, stronger
 
@@ -161,20 +164,19 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
     window_power = detection_power(lt_estimate.slope, noise, int(tw.size), ppy, alpha=alpha)
     detect_curve = _detect_curve(lt_estimate.slope, noise, ppy, alpha, tr.size)
 
-    units = series.units
     inputs, window, weaker, stronger = _verdict_inputs(claim, tw, yw, lt_estimate, long_term.mann_kendall.p_value, noise, options.noise, options,
-                                                       alpha, change, spell.probability, ytd, units)
+                                                       alpha, change, spell.probability, ytd, series)
     verdict = decide(inputs)
 
     sensitivity = window_sensitivity(t, y, float(tw[0]), float(tw[-1]), k_years=options.sensitivity_years,
                                      long_term_slope=lt_estimate.slope)
     endpoints = endpoint_outliers(t, y, float(tw[0]), float(tw[-1]), long_term.fit.line(t), noise.marginal_sd)
     robustness = _robustness(claim, tw, yw, tr, yr, segment_residuals[in_ref], options, alpha, change,
-                             spell.probability, ppy, units, rng, verdict.code)
-    whole = _whole_record(series, claim, tw, yw, segment_residuals, options, alpha, spell.probability, ppy, units,
+                             spell.probability, ppy, series, rng, verdict.code)
+    whole = _whole_record(series, claim, tw, yw, segment_residuals, options, alpha, spell.probability, ppy,
                           rng["whole_record"], reference, min_points)
     verdict = dataclasses.replace(verdict, what_would_change=_what_would_change(
-        inputs, verdict.code, sensitivity, robustness, whole, options, units))
+        inputs, verdict.code, sensitivity, robustness, whole, options, series.units))
 
     return AuditResult(
         series=series, claim=claim, options=options, seed=seed, software_version=__version__,
@@ -208,7 +210,7 @@ def _detect_curve(slope, noise, ppy, alpha, n_reference) -> tuple[tuple[float, f
     return tuple((float(n / ppy), float(detection_power(slope, noise, int(n), ppy, alpha=alpha))) for n in lengths)
 
 
-def _robustness(claim, tw, yw, tr, yr, residuals, options, alpha, change, spell_p, ppy, units, rng, main_code):
+def _robustness(claim, tw, yw, tr, yr, residuals, options, alpha, change, spell_p, ppy, series, rng, main_code):
     """Would the verdict hold under each noise model? White, AR(1) and ARMA(1,1) rerun the change test."""
     rows = []
     sims = max(200, options.simulations // 4)
@@ -228,7 +230,7 @@ def _robustness(claim, tw, yw, tr, yr, residuals, options, alpha, change, spell_
         ytd = years_to_detect(lt.slope, noise, ppy, alpha=alpha)
         inputs, window, weaker, stronger = _verdict_inputs(
             claim, tw, yw, lt, lt_mk_p, noise if method in SIMULATED_NOISE else None, method, options, alpha, method_change,
-            spell_p, ytd, units)
+            spell_p, ytd, series)
         code = decide_code(inputs)
         rows.append(RobustnessRow(method=method, window_slope=window.slope, window_ci=window.ci,
                                   long_term_slope=lt.slope, long_term_ci=lt.ci,
@@ -238,7 +240,7 @@ def _robustness(claim, tw, yw, tr, yr, residuals, options, alpha, change, spell_
     return tuple(rows)
 
 
-def _whole_record(series, claim, tw, yw, residuals, options, alpha, spell_p, ppy, units, rng, reference,
+def _whole_record(series, claim, tw, yw, residuals, options, alpha, spell_p, ppy, rng, reference,
                   min_points) -> WholeRecordCheck:
     """The one-line sensitivity: what if the whole record were the reference period?"""
     t, y = series.time, series.value
@@ -250,7 +252,7 @@ def _whole_record(series, claim, tw, yw, residuals, options, alpha, spell_p, ppy
                            min(min_points, int((t >= claim.start).sum())), with_broken=False)
     ytd = years_to_detect(lt.chosen.slope, noise, ppy, alpha=alpha)
     inputs, window, weaker, stronger = _verdict_inputs(claim, tw, yw, lt.chosen, lt.mann_kendall.p_value, noise, options.noise, options,
-                                                       alpha, change, spell_p, ytd, units)
+                                                       alpha, change, spell_p, ytd, series)
     return WholeRecordCheck(same_as_reference=same, long_term_slope=lt.chosen.slope, long_term_ci=lt.chosen.ci,
                             p_window_vs_long_term=(stronger if claim.says_faster else weaker).p_value,
                             change_p_adjusted=change.sup_f.p_value_adjusted, code=decide_code(inputs))
@@ -263,7 +265,7 @@ def _what_would_change(v: VerdictInputs, code, sensitivity, robustness, whole, o
     lo, hi = float(np.nanmin(sensitivity.slopes)), float(np.nanmax(sensitivity.slopes))
     notes.append(f"Moving the window's start and end by up to {options.sensitivity_years:g} years changes its trend "
                  f"from {rate(lo)} to {rate(hi)}; the claimed window ranks at the "
-                 f"{100 * sensitivity.claimed_rank_percentile:.0f}th percentile of those windows (0 = the flattest).")
+                 f"{sensitivity.claimed_rank_percentile:.0f}th percentile of those windows (0 = the flattest).")
     flips = [r for r in rows if not r.holds]
     if flips:
         notes.append("Under " + ", ".join(f"the {r.method} noise model ({r.code.replace('_', ' ')})" for r in flips)

@@ -62,10 +62,21 @@ class VerdictInputs:
     rate_factor: float = 10.0
     rate_unit: str = "per decade"
     units: str = ""
+    first_label: str = ""  # the window's first and last periods as the data name them: 1998, 2016-01
+    last_label: str = ""
+    span_years: float = float("nan")  # years the window's periods cover (15 annual points: 15)
 
     @property
     def window_years(self) -> float:
-        return self.window_end - self.window_start
+        return self.span_years if math.isfinite(self.span_years) else self.window_end - self.window_start
+
+    @property
+    def start_label(self) -> str:
+        return self.first_label or f"{self.window_start:.4g}"
+
+    @property
+    def span_label(self) -> str:
+        return f"{self.start_label} to {self.last_label or f'{self.window_end:.4g}'}"
 
     @property
     def trend_sign(self) -> int:
@@ -139,7 +150,7 @@ def decide(v: VerdictInputs) -> Verdict:
     code = decide_code(v)
     rate = lambda s: format_rate(s, v.rate_factor, v.rate_unit, v.units)  # noqa: E731
     noun = CLAIM_NOUN.get(v.kind, v.kind)
-    span = f"{v.window_start:.4g} to {v.window_end:.4g}"
+    span = v.span_label
     years = _years(v.window_years)
     conf = f"{100 * (1 - v.alpha):.0f}%"
     lo, hi = v.window_ci
@@ -163,7 +174,7 @@ def decide(v: VerdictInputs) -> Verdict:
                        f"{long_text} ({format_p(v.window_p_vs_zero)} against no trend). The window chosen by the claim "
                        f"itself appears to contradict it.")
     elif code == CHANGE_SUPPORTED:
-        headline = f"The data support a change in trend around {v.window_start:.4g}, even allowing for the chosen date"
+        headline = f"The data support a change in trend around {v.start_label}, even allowing for the chosen date"
         summary = (f"{window_text[0].upper() + window_text[1:]}, against {long_text}. A trend-change test at the "
                    f"claimed date remains significant after allowing for the claimant's freedom to pick that date "
                    f"(adjusted {format_p(v.change_p_adjusted)}). This says the rate changed; it does not say why, "
