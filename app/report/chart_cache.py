@@ -1,8 +1,8 @@
-"""Rendered charts, kept per audit: compute once, render once, serve many times.
+"""Rendered charts, kept per stored result: compute once, render once, serve many times.
 
-A stored audit never changes (it can only be deleted), so the SVG drawn for an audit id and a chart
+A stored audit never changes (it can only be deleted), so the SVG drawn for a record id and a chart
 name stays right for as long as the process lives. The cache is a small LRU in memory, shared by
-the report page and the chart downloads; a process that restarts simply draws again.
+the report pages and the chart downloads; a process that restarts simply draws again.
 """
 
 from __future__ import annotations
@@ -15,7 +15,7 @@ from typing import Any
 from markupsafe import Markup
 
 from app.errors import Location, NotFound
-from app.report.charts import CHART_NAMES, CHARTS
+from app.report.chart_sets import AUDIT_CHARTS, ChartSet
 from app.report.figures import inline_svg, png_bytes, standalone_svg
 
 CACHE_ENTRIES = 600  # about 120 audits' worth of charts; an SVG is 20-150 kB
@@ -66,22 +66,24 @@ def clear_chart_cache() -> None:
     _cache.clear()
 
 
-def check_chart_name(name: str) -> None:
-    if name not in CHARTS:
+def check_chart_name(name: str, document: dict[str, Any], charts: ChartSet = AUDIT_CHARTS) -> None:
+    names = charts.names(document)
+    if name not in names:
         raise NotFound(f"no chart called '{name[:40]}'", location=Location(field="chart"),
-                       fix="Use one of: " + ", ".join(CHART_NAMES))
+                       fix="Use one of: " + ", ".join(names))
 
 
-def chart_file(audit_id: str, document: dict[str, Any], name: str, fmt: str) -> bytes | str:
+def chart_file(record_id: str, document: dict[str, Any], name: str, fmt: str,
+               charts: ChartSet = AUDIT_CHARTS) -> bytes | str:
     """One chart as 'inline' SVG markup, a standalone 'svg' file or 'png' bytes, drawn at most once per process."""
-    check_chart_name(name)
+    check_chart_name(name, document, charts)
     if fmt not in FORMATS:
         raise NotFound(f"no chart format '{fmt[:10]}'", location=Location(field="format"), fix="Use .svg or .png")
-    key = (audit_id, name, fmt)
+    key = (charts.kind, record_id, name, fmt)
     cached = _cache.get(key)
     if cached is not None:
         return cached
-    spec = CHARTS[name]
+    spec = charts.specs[name]
     figure = spec.build(document)
     if fmt == "png":
         result: bytes | str = png_bytes(figure)
@@ -92,13 +94,15 @@ def chart_file(audit_id: str, document: dict[str, Any], name: str, fmt: str) -> 
     return result
 
 
-def chart_views(audit_id: str, document: dict[str, Any]) -> tuple[ChartView, ...]:
+def chart_views(record_id: str, document: dict[str, Any], charts: ChartSet = AUDIT_CHARTS) -> tuple[ChartView, ...]:
+    """Every chart the document has, ready to inline, with its download addresses."""
     views = []
-    for name in CHART_NAMES:
-        spec = CHARTS[name]
+    for name in charts.names(document):
+        spec = charts.specs[name]
+        base = f"{charts.base_path}/{record_id}/charts/{name}"
         views.append(ChartView(
             name=name, title=spec.title(document), caption=spec.caption(document),
             description=spec.description(document),
-            svg=Markup(chart_file(audit_id, document, name, "inline")),
-            svg_url=f"/audits/{audit_id}/charts/{name}.svg", png_url=f"/audits/{audit_id}/charts/{name}.png"))
+            svg=Markup(chart_file(record_id, document, name, "inline", charts)), svg_url=f"{base}.svg",
+            png_url=f"{base}.png"))
     return tuple(views)

@@ -40,7 +40,7 @@ class ChartSpec:
     build: Callable[[dict[str, Any]], Figure]
 
 
-def _array(values: Any) -> np.ndarray:
+def stored_array(values: Any) -> np.ndarray:
     """A stored list as floats, with JSON nulls (NaN in the result) back as NaN."""
     if values is None:
         return np.empty(0)
@@ -55,7 +55,7 @@ def _value_axis_label(doc: dict[str, Any]) -> str:
     return label or units or "Value"
 
 
-def _name_values(ax, label: str, units: str) -> str:
+def name_values(ax, label: str, units: str) -> str:
     """Units on the axis, where there is room; returns the series' name, however long, wrapped for above the plot."""
     ax.set_ylabel(units or "Value")
     return textwrap.fill(label, LABEL_WRAP) if label else ""
@@ -63,24 +63,24 @@ def _name_values(ax, label: str, units: str) -> str:
 
 def _name_document_values(ax, doc: dict[str, Any]) -> str:
     inputs = doc.get("inputs") or {}
-    return _name_values(ax, inputs.get("label") or "", inputs.get("units") or "")
+    return name_values(ax, inputs.get("label") or "", inputs.get("units") or "")
 
 
-def _claim_span(doc: dict[str, Any]) -> str:
+def claim_span(doc: dict[str, Any]) -> str:
     claim = doc["claim"]
     return f"{time_of(doc, claim['start'])} to {time_of(doc, claim['end'])}"
 
 
-def _confidence(doc: dict[str, Any]) -> str:
+def confidence_text(doc: dict[str, Any]) -> str:
     return f"{100 * float(doc['options'].get('confidence', 0.95)):.0f}%"
 
 
-def _band(ax, line: dict[str, Any], colour: str, label: str, linestyle: str) -> None:
-    t = _array(line.get("time"))
+def trend_band(ax, line: dict[str, Any], colour: str, label: str, linestyle: str) -> None:
+    t = stored_array(line.get("time"))
     if t.size == 0:
         return
-    ax.fill_between(t, _array(line["lower"]), _array(line["upper"]), color=colour, alpha=0.16, linewidth=0)
-    ax.plot(t, _array(line["value"]), color=colour, linewidth=2.0, linestyle=linestyle, label=label)
+    ax.fill_between(t, stored_array(line["lower"]), stored_array(line["upper"]), color=colour, alpha=0.16, linewidth=0)
+    ax.plot(t, stored_array(line["value"]), color=colour, linewidth=2.0, linestyle=linestyle, label=label)
 
 
 def broken_at_gaps(t: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -92,11 +92,10 @@ def broken_at_gaps(t: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray
     return np.insert(t, gaps, np.nan), np.insert(y, gaps, np.nan)
 
 
-def _observed(ax, t: np.ndarray, y: np.ndarray, label: str = "Data") -> None:
-    ax.plot(*broken_at_gaps(t, y), color=palette.OBSERVED, linewidth=0.8 if t.size > 200 else 1.0, label=label,
-            zorder=1)
+def observed_line(ax, t: np.ndarray, y: np.ndarray, label: str = "Data", colour: str = palette.OBSERVED) -> None:
+    ax.plot(*broken_at_gaps(t, y), color=colour, linewidth=0.8 if t.size > 200 else 1.0, label=label, zorder=1)
     if t.size <= 200:
-        ax.plot(t, y, linestyle="none", marker="o", markersize=2.2, color=palette.OBSERVED, zorder=1)
+        ax.plot(t, y, linestyle="none", marker="o", markersize=2.2, color=colour, zorder=1)
 
 
 # 1. The series with the reference trend, the window trend and their ranges.
@@ -108,13 +107,13 @@ def _series_chart(doc: dict[str, Any]) -> Figure:
     curves = doc["curves"]
     claim = doc["claim"]
     ax.axvspan(claim["start"], claim["end"], color=palette.WINDOW, alpha=0.07, linewidth=0)
-    _observed(ax, _array(curves["time"]), _array(curves["value"]))
+    observed_line(ax, stored_array(curves["time"]), stored_array(curves["value"]))
     ref = doc["reference"]
-    _band(ax, curves["reference_line"], palette.LONG_TERM,
-          f"Long-term trend, {time_of(doc, ref['start'])} to {time_of(doc, ref['end'])}, with its {_confidence(doc)} range",
+    trend_band(ax, curves["reference_line"], palette.LONG_TERM,
+          f"Long-term trend, {time_of(doc, ref['start'])} to {time_of(doc, ref['end'])}, with its {confidence_text(doc)} range",
           "-")
-    _band(ax, curves["window_line"], palette.WINDOW,
-          f"Claimed window's trend, {_claim_span(doc)}, with its {_confidence(doc)} range", (0, (4, 2)))
+    trend_band(ax, curves["window_line"], palette.WINDOW,
+          f"Claimed window's trend, {claim_span(doc)}, with its {confidence_text(doc)} range", (0, (4, 2)))
     lay_out(fig, ax, plot_height=2.6, title=_name_document_values(ax, doc))
     return fig
 
@@ -124,16 +123,16 @@ def _series_description(doc: dict[str, Any]) -> str:
     inputs, ref, lt, win = doc["inputs"], doc["reference"], doc["long_term"], doc["window"]
     return (f"Line chart of {_value_axis_label(doc)}, {inputs.get('n')} points from {time_of(doc, inputs.get('start'))} "
             f"to {time_of(doc, inputs.get('end'))}. A straight long-term trend over {time_of(doc, ref['start'])} to "
-            f"{time_of(doc, ref['end'])} has a slope of {rate.text(lt.get('slope'))} ({_confidence(doc)} range "
-            f"{rate.range_text(lt.get('ci'))}). The claimed window, {_claim_span(doc)}, is shaded; its own trend is "
-            f"{rate.text(win.get('slope'))} ({_confidence(doc)} range {rate.range_text(win.get('ci'))}).")
+            f"{time_of(doc, ref['end'])} has a slope of {rate.text(lt.get('slope'))} ({confidence_text(doc)} range "
+            f"{rate.range_text(lt.get('ci'))}). The claimed window, {claim_span(doc)}, is shaded; its own trend is "
+            f"{rate.text(win.get('slope'))} ({confidence_text(doc)} range {rate.range_text(win.get('ci'))}).")
 
 
 # 2. Window trends under the no-change model, with the claimed window marked.
 
 def _shares(histogram: dict[str, Any], factor: float) -> tuple[np.ndarray, np.ndarray]:
-    edges = _array(histogram.get("edges")) * factor
-    counts = _array(histogram.get("counts"))
+    edges = stored_array(histogram.get("edges")) * factor
+    counts = stored_array(histogram.get("counts"))
     total = counts.sum()
     return edges, (counts / total if total > 0 else counts)
 
@@ -198,8 +197,8 @@ def _cell_ticks(set_ticks, centres: np.ndarray, doc: dict[str, Any]) -> None:
 def _sensitivity_chart(doc: dict[str, Any]) -> Figure:
     rate = Rate.of(doc)
     cherry = doc["cherry_pick"]
-    starts, ends = _array(cherry["start_times"]), _array(cherry["end_times"])
-    slopes = np.array([_array(row) for row in cherry["slopes"]], dtype=float).reshape(starts.size, ends.size)
+    starts, ends = stored_array(cherry["start_times"]), stored_array(cherry["end_times"])
+    slopes = np.array([stored_array(row) for row in cherry["slopes"]], dtype=float).reshape(starts.size, ends.size)
     slopes = slopes * rate.factor
     fig = new_figure(6.4)
     ax = fig.add_subplot()
@@ -246,22 +245,22 @@ def _segments_chart(doc: dict[str, Any]) -> Figure:
     fig = new_figure(7.0)
     ax = fig.add_subplot()
     curves, segments = doc["curves"], doc["segments"]
-    t = _array(curves["time"])
-    _observed(ax, t, _array(curves["value"]))
+    t = stored_array(curves["time"])
+    observed_line(ax, t, stored_array(curves["value"]))
     for index, (low, high) in enumerate(segments.get("breakpoint_ranges") or []):
         if is_number(low) and is_number(high):
             ax.axvspan(low, high, color=palette.SEGMENTS, alpha=0.13, linewidth=0,
-                       label=f"Range of each break ({_confidence(doc)})" if index == 0 else None)
+                       label=f"Range of each break ({confidence_text(doc)})" if index == 0 else None)
     for index, when in enumerate(segments.get("breakpoints") or []):
         ax.axvline(when, color=palette.SEGMENTS, linewidth=1.1, linestyle=(0, (2, 2)),
                    label="Estimated break" if index == 0 else None)
     jumps = (segments.get("discontinuous") or {}).get("fitted")
     if jumps is not None and len(jumps) == t.size:
-        ax.plot(t, _array(jumps), color=palette.MARK, linewidth=1.2, linestyle=(0, (1, 1.5)),
+        ax.plot(t, stored_array(jumps), color=palette.MARK, linewidth=1.2, linestyle=(0, (1, 1.5)),
                 label="Fit allowing jumps between segments")
     fitted = segments.get("fitted")
     if fitted is not None and len(fitted) == t.size:
-        ax.plot(t, _array(fitted), color=palette.SEGMENTS, linewidth=2.2, label="Joined straight segments")
+        ax.plot(t, stored_array(fitted), color=palette.SEGMENTS, linewidth=2.2, label="Joined straight segments")
     claim = doc["claim"]
     ax.axvline(claim["start"], color=palette.WINDOW, linewidth=1.2, label=f"Claimed start: {time_of(doc, claim['start'])}")
     lay_out(fig, ax, plot_height=2.5, legend_columns=2, title=_name_document_values(ax, doc))
@@ -288,8 +287,8 @@ def _detectability_chart(doc: dict[str, Any]) -> Figure:
     fig = new_figure(7.0)
     ax = fig.add_subplot()
     curve = detect.get("curve") or []
-    years = _array([point["years"] for point in curve])
-    power = _array([point["power"] for point in curve])
+    years = stored_array([point["years"] for point in curve])
+    power = stored_array([point["power"] for point in curve])
     ax.plot(years, power, color=palette.LONG_TERM, linewidth=2.0,
             label="Chance a window this long shows the long-term trend")
     window_years = detect.get("window_years")
@@ -374,5 +373,5 @@ def preview_chart(time: np.ndarray, value: np.ndarray, label: str, units: str) -
     ax = fig.add_subplot()
     ax.plot(*broken_at_gaps(np.asarray(time, dtype=float), np.asarray(value, dtype=float)), color=palette.OBSERVED,
             linewidth=0.9)
-    lay_out(fig, ax, plot_height=1.5, title=_name_values(ax, label, units))
+    lay_out(fig, ax, plot_height=1.5, title=name_values(ax, label, units))
     return fig

@@ -20,6 +20,7 @@ from matplotlib.figure import Figure  # noqa: E402
 from matplotlib.ticker import MaxNLocator  # noqa: E402
 
 from app.report import palette  # noqa: E402
+from app.report.svg_attributes import presentation_attributes  # noqa: E402
 
 PNG_DPI = 150
 
@@ -81,13 +82,19 @@ def new_figure(width: float = 7.0) -> Figure:
 
 
 def lay_out(fig: Figure, ax, *, plot_height: float, legend_columns: int = 1, title: str = "",
-            colorbar_mappable=None):
+            colorbar_mappable=None, also_in_key=()):
     """Sizes the figure around a plot of ``plot_height`` inches, with the key under it; returns the colour bar.
 
     ``title`` (already wrapped) goes above the plot at a fixed place: an Axes title would be
-    positioned by measuring every tick label, a large share of the drawing time.
+    positioned by measuring every tick label, a large share of the drawing time. The key lists
+    ``ax``'s labelled artists, then those of the axes in ``also_in_key`` whose labels are new.
     """
     handles, labels = ax.get_legend_handles_labels()
+    for other in also_in_key:
+        for handle, label in zip(*other.get_legend_handles_labels()):
+            if label not in labels:
+                handles.append(handle)
+                labels.append(label)
     rows = -(-len(handles) // legend_columns) if handles else 0
     width = fig.get_figwidth()
     title_lines = title.count("\n") + 1 if title else 0
@@ -113,6 +120,15 @@ def lay_out(fig: Figure, ax, *, plot_height: float, legend_columns: int = 1, tit
         return None
     bar_axes = fig.add_axes([(width - right + 0.25) / width, bottom / height, 0.16 / width, plot_height / height])
     return fig.colorbar(colorbar_mappable, cax=bar_axes)
+
+
+def stack_panels(upper, lower, gap: float = 0.25) -> None:
+    """Splits the plot area ``lay_out`` gave ``upper`` into two panels, ``lower`` below it, ``gap`` inches apart."""
+    box = upper.get_position()
+    gap_share = gap / upper.figure.get_figheight()
+    panel = (box.height - gap_share) / 2
+    lower.set_position([box.x0, box.y0, box.width, panel])
+    upper.set_position([box.x0, box.y0 + panel + gap_share, box.width, panel])
 
 
 def styled(build):
@@ -170,7 +186,8 @@ def _labelled_svg(fig: Figure, name: str, title: str, description: str) -> str:
     svg = _COMMENT.sub("", svg)
     svg = _METADATA.sub("", svg)
     prefix = f"chart-{name}"
-    return _label(_prefix_ids(svg, prefix), prefix, title, description).strip()
+    # Presentation attributes, not style: the pages' Content-Security-Policy allows no inline style.
+    return presentation_attributes(_label(_prefix_ids(svg, prefix), prefix, title, description)).strip()
 
 
 def inline_svg(fig: Figure, name: str, title: str, description: str) -> str:

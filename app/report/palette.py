@@ -23,6 +23,9 @@ WINDOW = "#c24f00"  # the claimed window: vermilion
 SIMULATED = "#8cc3e6"  # draws from the no-change model: sky blue
 SEGMENTS = "#007a5e"  # the segmented fit: bluish green
 MARK = "#a3508a"  # single marks: detection threshold, the claimed cell
+ADJUSTED = "#007a5e"  # the series with known factors taken out, and its trend: bluish green, as SEGMENTS
+ADJUSTED_DATA = "#5aa690"  # ... its data points, lighter than its trend line
+DRIVER = "#c24f00"  # a driver beside its response (the response keeps LONG_TERM's blue)
 
 # Diverging around the long-term slope: blue where windows ran faster than it, vermilion where
 # slower, white where the same. Blue-to-orange diverging maps stay readable for red-green deficiency.

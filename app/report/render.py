@@ -13,10 +13,12 @@ from pathlib import Path
 from typing import Any
 
 from jinja2 import Environment, FileSystemLoader, StrictUndefined, select_autoescape
-from markupsafe import Markup
 
 from app import __version__
+from app.report.adjusted_chart import ADJUSTED_CHART_NAME
+from app.report.adjustment_context import adjustment_view
 from app.report.chart_cache import ChartView, chart_views
+from app.report.charts import CHART_NAMES
 from app.report.context import ReportContext, report_context
 from app.report.palette import PALETTE_NAME
 from app.settings import PROJECT_ROOT
@@ -61,8 +63,20 @@ def report_parts(audit: Any, *, source: Mapping[str, Any] | None = None,
     return context, chart_views(audit_id, document)
 
 
+def report_values(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "") -> dict[str, Any]:
+    """Everything report.html renders: the context, the adjustment when there is one, the charts in page order."""
+    context, charts = report_parts(audit, source=source, base_url=base_url)
+    _, _, _, document, _, _ = _unpack(audit)
+    by_name = {chart.name: chart for chart in charts}
+    adjusted_chart = by_name.get(ADJUSTED_CHART_NAME)
+    evidence = tuple(by_name[name] for name in CHART_NAMES if name in by_name)
+    in_page_order = ((adjusted_chart,) if adjusted_chart else ()) + evidence
+    return {"report": context, "adjustment": adjustment_view(document), "adjusted_chart": adjusted_chart,
+            "evidence_charts": evidence, "charts": in_page_order,
+            "chart_numbers": {chart.name: number for number, chart in enumerate(in_page_order, start=1)},
+            "noindex": True, "page_title": f"{context.title} - Trend Audit"}
+
+
 def render_report(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "") -> str:
     """The report page for one stored audit, as a complete HTML document."""
-    context, charts = report_parts(audit, source=source, base_url=base_url)
-    return render_page("report.html", report=context, charts=charts, noindex=True,
-                       page_title=f"{context.title} - Trend Audit", Markup=Markup)
+    return render_page("report.html", **report_values(audit, source=source, base_url=base_url))

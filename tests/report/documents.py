@@ -14,6 +14,7 @@ from functools import lru_cache
 from app.audit import AuditOptions, Claim, audit_document, run_audit
 from app.ingest import IngestOptions, read_csv_text
 from app.settings import PROJECT_ROOT
+from app.stats.adjust import Covariate
 
 SAMPLES = PROJECT_ROOT / "sample_series"
 CREATED = datetime(2025, 3, 14, 9, 26, tzinfo=timezone.utc)
@@ -26,6 +27,21 @@ def sample_document(name: str = "quorvane-annual-temperature", start: float = 19
     """The stored form (JSON text) of one audit; parse it afresh in each test so none can alter another's."""
     table = read_csv_text((SAMPLES / f"{name}.csv").read_bytes(), IngestOptions(label=label, units=units))
     result = run_audit(table.series, Claim(start, end, kind), AuditOptions(simulations=simulations, seed=seed))
+    return json.dumps(audit_document(result))
+
+
+@lru_cache(maxsize=None)
+def adjusted_document(factor: str = "ocean_index", simulations: int = 200, seed: int = 20250315) -> str:
+    """An audit adjusted for a covariate: the monthly sample whose 'ocean_index' column drives part of it.
+
+    ``factor`` renames the covariate, so a test can send a hostile name through the whole pipeline.
+    """
+    table = read_csv_text((SAMPLES / "wrenhollow-point-monthly-temperature.csv").read_bytes(),
+                          IngestOptions(label="Wrenhollow Point temperature anomaly", units="°C"))
+    index = table.extra_columns["ocean_index"]
+    claim = Claim(2016 + 0.5 / 12, 2024 + 11.5 / 12, "reversal")
+    result = run_audit(table.series, claim, AuditOptions(simulations=simulations, seed=seed),
+                       covariates=[Covariate(factor, index.time, index.value)])
     return json.dumps(audit_document(result))
 
 
