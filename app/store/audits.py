@@ -1,5 +1,9 @@
 """The audits repository: create, read, list newest first, delete with the owner's token.
 
+One table holds every stored result; its ``kind`` says which (``audit``: a pause audit,
+``correlation``: a driver-response audit). Readers that serve one kind pass it, so an id of another
+kind is "not found" there, as if it did not exist.
+
 Ids carry 128 bits or more of randomness (the link is the capability to read). The owner token is
 shown once at creation; only its SHA-256 is stored, and checks compare digests in constant time.
 """
@@ -23,6 +27,9 @@ from app.store.engine import write_options
 ID_BYTES = 18  # 144 bits, 24 URL-safe characters
 OWNER_TOKEN_BYTES = 32
 MAX_PAGE_SIZE = 100
+AUDIT = "audit"
+CORRELATION = "correlation"
+KIND_NOUNS = {AUDIT: "audit", CORRELATION: "correlation audit"}
 
 # The schema itself lives in the migrations; this names the columns the queries use, with the types
 # that need converting on the way in and out (JSON documents, timezone-aware times).
@@ -55,7 +62,7 @@ class NewAudit:
     seed: int | None
     software_version: str
     summary: dict[str, Any]
-    kind: str = "audit"
+    kind: str = AUDIT
 
 
 @dataclass(frozen=True)
@@ -132,15 +139,16 @@ class AuditRepository:
                              input_document=audit.input_document, result_document=audit.result_document)
         return record, owner_token
 
-    def get(self, audit_id: str) -> AuditRecord:
+    def get(self, audit_id: str, kind: str | None = None) -> AuditRecord:
+        """The stored record; with ``kind``, a record of another kind is not found."""
         t = audits_table
         query = sa.select(t.c.id, t.c.kind, t.c.title, t.c.created_at, t.c.input_sha256, t.c.seed,
                           t.c.software_version, t.c.summary, t.c.input_document, t.c.result_document
-                          ).where(t.c.id == audit_id)
+                          ).where(_identified(audit_id, kind))
         with self.engine.connect() as connection:
             row = connection.execute(query).mappings().first()
         if row is None:
-            raise _not_found(audit_id)
+            raise _not_found(audit_id, kind)
         return AuditRecord(**{**row, "created_at": _utc(row["created_at"])})
 
     def list(self, *, limit: int = 20, cursor: str | None = None, kind: str | None = None) -> Page:
@@ -162,27 +170,39 @@ class AuditRepository:
         next_cursor = encode_cursor(rows[limit - 1]["seq"]) if len(rows) > limit else None
         return Page(items=items, next_cursor=next_cursor)
 
-    def delete(self, audit_id: str, owner_token: str | None) -> None:
-        """Deletes the audit if the token is its owner's; the check and the delete share one transaction."""
+    def delete(self, audit_id: str, owner_token: str | None, kind: str | None = None) -> None:
+        """Deletes the record if the token is its owner's; the check and the delete share one transaction."""
+        noun = KIND_NOUNS.get(kind, "audit")
         if not owner_token:
-            raise AccessDenied("deleting an audit needs its owner token", location=Location(field="X-Owner-Token"),
-                               fix="Send the owner_token you received when the audit was created in the "
+            raise AccessDenied(f"deleting {_article(noun)} {noun} needs its owner token",
+                               location=Location(field="X-Owner-Token"),
+                               fix=f"Send the owner_token you received when the {noun} was created in the "
                                    "X-Owner-Token header")
         t = audits_table
         with self.engine.connect().execution_options(**write_options(self.engine)) as connection:
             with connection.begin():
                 stored = connection.execute(
-                    sa.select(t.c.owner_token_sha256).where(t.c.id == audit_id).with_for_update()).scalar()
+                    sa.select(t.c.owner_token_sha256).where(_identified(audit_id, kind)).with_for_update()).scalar()
                 if stored is None:
-                    raise _not_found(audit_id)
+                    raise _not_found(audit_id, kind)
                 if not hmac.compare_digest(stored.encode(), token_digest(owner_token).encode()):
-                    raise AccessDenied("the owner token does not match this audit", missing_credentials=False,
+                    raise AccessDenied(f"the owner token does not match this {noun}", missing_credentials=False,
                                        location=Location(field="X-Owner-Token"),
-                                       fix="Send the owner_token returned when this audit was created")
+                                       fix=f"Send the owner_token returned when this {noun} was created")
                 connection.execute(t.delete().where(t.c.id == audit_id))
 
 
-def _not_found(audit_id: str) -> NotFound:
+def _identified(audit_id: str, kind: str | None):
+    condition = audits_table.c.id == audit_id
+    return condition if kind is None else condition & (audits_table.c.kind == kind)
+
+
+def _article(noun: str) -> str:
+    return "an" if noun[0] in "aeiou" else "a"
+
+
+def _not_found(audit_id: str, kind: str | None = None) -> NotFound:
     shown = audit_id if len(audit_id) <= 64 else audit_id[:64] + "..."
-    return NotFound(f"no audit with id '{shown}'", location=Location(field="id"),
-                    fix="Check the link; a deleted audit is gone for good")
+    noun = KIND_NOUNS.get(kind, "audit")
+    return NotFound(f"no {noun} with id '{shown}'", location=Location(field="id"),
+                    fix=f"Check the link; a deleted {noun} is gone for good")

@@ -85,6 +85,30 @@ def test_list_filters_by_kind(repository):
     assert [i.id for i in repository.list(kind="correlation").items] == [other_id]
 
 
+def test_reading_by_kind_does_not_find_another_kind(repository):
+    audit = repository.create(new_audit())[0]
+    correlation, token = repository.create(new_audit(kind="correlation"))
+    assert repository.get(audit.id, kind="audit") == audit
+    assert repository.get(correlation.id, kind="correlation") == correlation
+    assert repository.get(correlation.id) == correlation  # no kind: any record
+    with pytest.raises(NotFound, match="no audit with id"):
+        repository.get(correlation.id, kind="audit")
+    with pytest.raises(NotFound, match="no correlation audit with id"):
+        repository.get(audit.id, kind="correlation")
+
+
+def test_deleting_by_kind_leaves_another_kind_alone(repository):
+    correlation, token = repository.create(new_audit(kind="correlation"))
+    with pytest.raises(NotFound, match="no audit with id"):
+        repository.delete(correlation.id, token, kind="audit")
+    assert repository.get(correlation.id) == correlation
+    with pytest.raises(AccessDenied, match="correlation audit"):
+        repository.delete(correlation.id, None, kind="correlation")
+    repository.delete(correlation.id, token, kind="correlation")
+    with pytest.raises(NotFound):
+        repository.get(correlation.id)
+
+
 @pytest.mark.parametrize("cursor", ["", "zzz", encode_cursor(5)[:-1] + "!", "czE"[:2]])
 def test_a_forged_cursor_is_an_input_error(repository, cursor):
     with pytest.raises(InputError, match="cursor"):
