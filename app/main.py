@@ -10,9 +10,11 @@ from fastapi.openapi.utils import get_openapi
 from app import __version__
 from app.api import audits, samples, trend
 from app.api.limits import BodySizeLimit
+from app.api.openapi_problems import document_problems
 from app.api.problems import install_problem_handlers
 from app.api.runtime import RuntimeHolder
 from app.api.schemas import AuditRequest, MultipartAuditForm
+from app.security import install_security_headers
 from app.settings import Settings
 from app.web import routers as desk_routers
 
@@ -24,6 +26,7 @@ def _openapi_with(application: FastAPI, models) -> dict:
     if application.openapi_schema is None:
         schema = get_openapi(title=application.title, version=application.version,
                              description=application.description, routes=application.routes)
+        document_problems(schema)  # every error is application/problem+json; say so
         components = schema.setdefault("components", {}).setdefault("schemas", {})
         for model in models:
             model_schema = model.model_json_schema(ref_template="#/components/schemas/{model}")
@@ -53,6 +56,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     application.state.settings = settings
     application.state.runtime = runtime
     install_problem_handlers(application)
+    install_security_headers(application)  # outside everything, so errors of every kind carry the headers
     for router in desk_routers:  # the browser desk: HTML pages, their assets, chart downloads
         application.include_router(router)
     application.add_middleware(BodySizeLimit, max_bytes=settings.max_upload_bytes)
