@@ -22,7 +22,7 @@ from app.errors import ClaimError, Location
 from app.ingest.sampling import period_label
 from app.ingest.series import Series
 from app.stats.adjust import Covariate, fit_covariates
-from app.stats.breaks import break_test, sup_f_test
+from app.stats.breaks import break_test, sup_f_tests
 from app.stats.detect import detection_power, years_to_detect
 from app.stats.noise import NoiseModel, estimate_noise
 from app.stats.nonparam import mann_kendall, sen_slope
@@ -49,6 +49,8 @@ def _streams(seed: int, names: tuple[str, ...]) -> dict[str, np.random.Generator
     return {name: np.random.default_rng(child) for name, child in zip(names, children)}
 
 
+# "sup_f_broken" is no longer drawn from (the hinge and broken tests share the "sup_f" simulations) but keeps
+# its place, so every later stream keeps its seed.
 STREAMS = ("spell", "sup_f", "sup_f_broken", "segments", "segments_jump", "robust_white", "robust_arma11",
            "whole_record")
 
@@ -80,19 +82,17 @@ class _ChangeTests:
     sup_f_broken: object | None
 
 
-def _change_tests(t, y, claim_start, direction, noise, noise_kind, sims, rng, rng_broken, min_points,
+def _change_tests(t, y, claim_start, direction, noise, noise_kind, sims, rng, min_points,
                   with_broken=True) -> _ChangeTests:
+    """Hinge (and broken) tests at the claimed date; both sup-F tests calibrate on the same simulated series."""
     idx = int(np.searchsorted(t, claim_start))
     trim = _trim_for(idx, t.size, min_points)
     hinge = break_test(t, y, claim_start, model="hinge", direction=direction, noise=noise)
-    broken = break_test(t, y, claim_start, model="broken", direction=direction, noise=noise)
-    sup_hinge = sup_f_test(t, y, claim_start, model="hinge", direction=direction, noise_kind=noise_kind,
-                           n_simulations=sims, trim=trim, rng=rng, noise=noise)
-    sup_broken = None
-    if with_broken:
-        sup_broken = sup_f_test(t, y, claim_start, model="broken", direction=direction, noise_kind=noise_kind,
-                                n_simulations=sims, trim=trim, rng=rng_broken, noise=noise)
-    return _ChangeTests(hinge, broken, sup_hinge, sup_broken)
+    broken = break_test(t, y, claim_start, model="broken", direction=direction, noise=noise) if with_broken else None
+    models = ("hinge", "broken") if with_broken else ("hinge",)
+    sup = sup_f_tests(t, y, claim_start, models, direction=direction, noise_kind=noise_kind, n_simulations=sims,
+                      trim=trim, rng=rng, noise=noise)
+    return _ChangeTests(hinge, broken, sup["hinge"], sup.get("broken"))
 
 
 def _verdict_inputs(claim, tw, yw, lt_estimate, lt_mk_p, noise, method, options, alpha, change, spell_p, ytd,
@@ -157,7 +157,7 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
     tail = claim.tail(lt_estimate.slope)
 
     change = _change_tests(tr, yr, claim.start, direction, noise, options.noise, options.simulations,
-                           rng["sup_f"], rng["sup_f_broken"], min(min_points, int((tr >= claim.start).sum())))
+                           rng["sup_f"], min(min_points, int((tr >= claim.start).sum())))
     spell = spell_probability(tr, lt_estimate.slope, noise, int(tw.size), float(fit_trend(tw, yw).slope),
                               direction=tail, n_simulations=options.simulations, rng=rng["spell"])
     ytd = years_to_detect(lt_estimate.slope, noise, ppy, alpha=alpha)
@@ -172,9 +172,9 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
                                      long_term_slope=lt_estimate.slope)
     endpoints = endpoint_outliers(t, y, float(tw[0]), float(tw[-1]), long_term.fit.line(t), noise.marginal_sd)
     robustness = _robustness(claim, tw, yw, tr, yr, segment_residuals[in_ref], options, alpha, change,
-                             spell.probability, ppy, series, rng, verdict.code)
+                             spell.probability, ppy, series, rng, verdict.code, long_term.mann_kendall.p_value)
     whole = _whole_record(series, claim, tw, yw, segment_residuals, options, alpha, spell.probability, ppy,
-                          rng["whole_record"], reference, min_points)
+                          rng["whole_record"], reference, min_points, (long_term, noise, change))
     verdict = dataclasses.replace(verdict, what_would_change=_what_would_change(
         inputs, verdict.code, sensitivity, robustness, whole, options, series.units))
 
@@ -210,11 +210,11 @@ def _detect_curve(slope, noise, ppy, alpha, n_reference) -> tuple[tuple[float, f
     return tuple((float(n / ppy), float(detection_power(slope, noise, int(n), ppy, alpha=alpha))) for n in lengths)
 
 
-def _robustness(claim, tw, yw, tr, yr, residuals, options, alpha, change, spell_p, ppy, series, rng, main_code):
+def _robustness(claim, tw, yw, tr, yr, residuals, options, alpha, change, spell_p, ppy, series, rng, main_code,
+                lt_mk_p):
     """Would the verdict hold under each noise model? White, AR(1) and ARMA(1,1) rerun the change test."""
     rows = []
     sims = max(200, options.simulations // 4)
-    lt_mk_p = mann_kendall(yr, alpha=alpha).p_value
     for method in ROBUSTNESS_METHODS:
         noise_kind = method if method in SIMULATED_NOISE else "ar1"
         noise = estimate_noise(residuals, noise_kind)
@@ -224,7 +224,7 @@ def _robustness(claim, tw, yw, tr, yr, residuals, options, alpha, change, spell_
         if method in ("white", "arma11") and method != options.noise:
             stream = rng["robust_" + method]
             method_change = _change_tests(tr, yr, claim.start, claim.direction(lt.slope), noise, noise_kind, sims,
-                                          stream, stream, max(3, min(int(round(options.min_segment_years * ppy)),
+                                          stream, max(3, min(int(round(options.min_segment_years * ppy)),
                                                                       int((tr >= claim.start).sum()))),
                                           with_broken=False)
         ytd = years_to_detect(lt.slope, noise, ppy, alpha=alpha)
@@ -241,19 +241,29 @@ def _robustness(claim, tw, yw, tr, yr, residuals, options, alpha, change, spell_
 
 
 def _whole_record(series, claim, tw, yw, residuals, options, alpha, spell_p, ppy, rng, reference,
-                  min_points) -> WholeRecordCheck:
-    """The one-line sensitivity: what if the whole record were the reference period?"""
+                  min_points, main) -> WholeRecordCheck:
+    """The one-line sensitivity: what if the whole record were the reference period?
+
+    When the reference period already is the whole record, every input is the main analysis's own
+    (the same points, residuals, noise model and claim direction), so its long-term trend and change
+    test are reused rather than recomputed with fewer simulations.
+    """
     t, y = series.time, series.value
-    noise = estimate_noise(residuals, options.noise)
-    lt = summarise_trend(t, y, method=options.noise, confidence=options.confidence, noise=noise, points_per_year=ppy)
     same = reference.start <= series.start and reference.end >= series.end
-    sims = max(200, options.simulations // 4)
-    change = _change_tests(t, y, claim.start, claim.direction(lt.chosen.slope), noise, options.noise, sims, rng, rng,
-                           min(min_points, int((t >= claim.start).sum())), with_broken=False)
-    ytd = years_to_detect(lt.chosen.slope, noise, ppy, alpha=alpha)
-    inputs, window, weaker, stronger = _verdict_inputs(claim, tw, yw, lt.chosen, lt.mann_kendall.p_value, noise, options.noise, options,
+    if same:
+        long_term, noise, change = main
+        lt, lt_mk_p = long_term.chosen, long_term.mann_kendall.p_value
+    else:
+        noise = estimate_noise(residuals, options.noise)
+        lt = slope_uncertainty(t, y, method=options.noise, confidence=options.confidence, noise=noise)
+        lt_mk_p = mann_kendall(y, alpha=alpha).p_value
+        sims = max(200, options.simulations // 4)
+        change = _change_tests(t, y, claim.start, claim.direction(lt.slope), noise, options.noise, sims, rng,
+                               min(min_points, int((t >= claim.start).sum())), with_broken=False)
+    ytd = years_to_detect(lt.slope, noise, ppy, alpha=alpha)
+    inputs, window, weaker, stronger = _verdict_inputs(claim, tw, yw, lt, lt_mk_p, noise, options.noise, options,
                                                        alpha, change, spell_p, ytd, series)
-    return WholeRecordCheck(same_as_reference=same, long_term_slope=lt.chosen.slope, long_term_ci=lt.chosen.ci,
+    return WholeRecordCheck(same_as_reference=same, long_term_slope=lt.slope, long_term_ci=lt.ci,
                             p_window_vs_long_term=(stronger if claim.says_faster else weaker).p_value,
                             change_p_adjusted=change.sup_f.p_value_adjusted, code=decide_code(inputs))
 

@@ -28,6 +28,11 @@ inner products of Prais-Winsten transformed vectors are quadratic in phi,
 ``<Pa, Pb> = M0 - phi M1 + phi^2 M2`` (lag-0, lag-1 and trimmed lag-0 moments), and every moment
 involving a break column ``g(t) 1[t > tb]`` is a reverse cumulative sum, so all dates for all
 series cost O(simulations x n) plus small per-date algebra.
+
+With ``noise`` given, phi is fixed at its lag-1 autocorrelation for the data and every simulated
+series alike (the audit's case), and ``app.stats.whitened_breaks`` does the same computation with
+one transform for all: two passes over each simulated series, the hinge and broken tests sharing
+them (``sup_f_tests``), and simulations taken in chunks so memory stays flat on long records.
 """
 
 from __future__ import annotations
@@ -41,6 +46,8 @@ from app.errors import ClaimError, Location, SeriesContentError
 from app.stats.noise import (NoiseModel, bias_corrected_phis, estimate_ar1, estimate_noise, lag_autocorrelations,
                              simulate_noise)
 from app.stats.ols import check_trend_inputs, fit_linear, fit_trend, fit_trend_rows
+from app.stats.whitened_breaks import (WhitenedBreakStats, directional, null_chunks, prais_winsten_rows,
+                                       whitened_null)
 
 MODELS = ("hinge", "broken")
 DIRECTIONS = ("decrease", "increase", "any")
@@ -138,8 +145,22 @@ def sup_f_test(t, y, claimed_break: float, model: str = "hinge", direction: str 
     prewhitening with phi re-estimated per series ("ar1", "arma11"), phi fixed at 0 ("white") or
     phi fixed at ``noise.rho1`` when ``noise`` is given.
     """
+    return sup_f_tests(t, y, claimed_break, (model,), direction, noise_kind, n_simulations, trim, rng, noise,
+                       max_candidates)[model]
+
+
+def sup_f_tests(t, y, claimed_break: float, models=MODELS, direction: str = "decrease",
+                noise_kind: str = "ar1", n_simulations: int = 2000, trim: float = 0.15,
+                rng: np.random.Generator | int | None = None, noise: NoiseModel | None = None,
+                max_candidates: int = MAX_CANDIDATES) -> dict[str, SupFTest]:
+    """``sup_f_test`` for several models on the same simulated null series (each model's own maxima).
+
+    Sharing the simulations makes the models' p-values dependent on each other, not any less valid
+    one at a time; with one model it draws exactly what ``sup_f_test`` draws.
+    """
     t, y = check_series(t, y)
-    _check_options(model, direction)
+    for model in models:
+        _check_options(model, direction)
     _check_break_time(t, claimed_break)
     if noise_kind not in NOISE_KINDS:
         raise ClaimError(f"unknown noise model '{noise_kind}'", location=Location(field="noise_kind"),
@@ -150,21 +171,54 @@ def sup_f_test(t, y, claimed_break: float, model: str = "hinge", direction: str 
     if n_simulations < 1:
         raise ClaimError("the number of simulations must be positive", location=Location(field="n_simulations"))
     rng = as_generator(rng)
-    residuals = fit_trend(t, y).residuals
     if noise is not None:
         null_noise, fixed_phi = noise, float(noise.rho1)
     else:
-        null_noise = estimate_noise(residuals, noise_kind)
+        null_noise = estimate_noise(fit_trend(t, y).residuals, noise_kind)
         fixed_phi = 0.0 if noise_kind == "white" else None
 
     candidates = candidate_break_times(t, trim, max_candidates, claimed_break)
     claim_index = int(np.flatnonzero(candidates == claimed_break)[0])
-    engine = BatchBreakStats.for_trend(t, candidates, model)
+    if fixed_phi is not None:
+        observed, null_max = _fixed_phi_stats(t, y, candidates, models, direction, null_noise, fixed_phi,
+                                              n_simulations, rng)
+    else:
+        observed, null_max = _estimated_phi_stats(t, y, candidates, models, direction, null_noise, n_simulations, rng)
+    return {model: _summary(model, direction, claimed_break, candidates, claim_index, observed[model],
+                            null_max[model], n_simulations, trim, null_noise) for model in models}
 
-    observed = engine.directional_stats(y[None, :], prewhitening_phis(t, y[None, :], fixed_phi), direction)[0]
-    simulated = simulate_noise(null_noise, t.size, n_simulations, rng)
-    null_max = engine.directional_stats(simulated, prewhitening_phis(t, simulated, fixed_phi), direction).max(axis=1)
 
+def _fixed_phi_stats(t, y, candidates, models, direction, null_noise, phi, n_simulations, rng):
+    """Observed statistics and null maxima when every series is prewhitened with the same phi."""
+    engine = WhitenedBreakStats(t, candidates, phi)
+    # Residuals rather than values: no statistic changes, and no large level has to be subtracted away.
+    residuals = fit_trend(t, y).residuals
+    observed = {m: directional(*stats, direction)[0]
+                for m, stats in engine.both(prais_winsten_rows(residuals[None, :], phi), models).items()}
+    maxima = {m: [] for m in models}
+    for rows in null_chunks(t.size, n_simulations):
+        for m, largest in engine.null_maxima(whitened_null(null_noise, phi, t.size, rows, rng), models,
+                                             direction).items():
+            maxima[m].append(largest)
+    return observed, {m: np.concatenate(parts) for m, parts in maxima.items()}
+
+
+def _estimated_phi_stats(t, y, candidates, models, direction, null_noise, n_simulations, rng):
+    """Observed statistics and null maxima with phi re-estimated on every series (the general engine)."""
+    engines = {m: BatchBreakStats.for_trend(t, candidates, m) for m in models}
+    observed = {m: e.directional_stats(y[None, :], prewhitening_phis(t, y[None, :], None), direction)[0]
+                for m, e in engines.items()}
+    maxima = {m: [] for m in models}
+    for rows in null_chunks(t.size, n_simulations):
+        simulated = simulate_noise(null_noise, t.size, rows, rng)
+        phis = prewhitening_phis(t, simulated, None)
+        for m, e in engines.items():
+            maxima[m].append(e.directional_stats(simulated, phis, direction).max(axis=1))
+    return observed, {m: np.concatenate(parts) for m, parts in maxima.items()}
+
+
+def _summary(model, direction, claimed_break, candidates, claim_index, observed, null_max, n_simulations, trim,
+             null_noise) -> SupFTest:
     stat_at_claim = float(observed[claim_index])
     best = int(np.argmax(observed))
     quantiles = np.quantile(null_max, [0.90, 0.95, 0.99])
@@ -200,10 +254,8 @@ def break_design(t: np.ndarray, break_time: float, model: str) -> np.ndarray:
 
 def prais_winsten(x: np.ndarray, phi: float) -> np.ndarray:
     """Rows z_0 = sqrt(1 - phi^2) x_0, z_t = x_t - phi x_{t-1}: whitens AR(1) errors, keeps all n rows."""
-    z = np.array(x, dtype=float, copy=True)
-    z[1:] -= phi * x[:-1]
-    z[0] *= np.sqrt(1.0 - phi * phi)
-    return z
+    x = np.asarray(x, dtype=float)
+    return prais_winsten_rows(x.reshape(x.shape[0], -1).T, phi).T.reshape(x.shape)
 
 
 def candidate_break_times(t: np.ndarray, trim: float, max_candidates: int, claimed: float) -> np.ndarray:
@@ -293,12 +345,7 @@ class BatchBreakStats:
 
     def directional_stats(self, series: np.ndarray, phi: np.ndarray, direction: str) -> np.ndarray:
         """(S, m) directional F: F where the first break column's coefficient has the claimed sign, else 0."""
-        f_stat, change = self.f_and_change(series, phi)
-        if direction == "decrease":
-            return np.where(change < 0, f_stat, 0.0)
-        if direction == "increase":
-            return np.where(change > 0, f_stat, 0.0)
-        return f_stat
+        return directional(*self.f_and_change(series, phi), direction)
 
     def f_and_change(self, series: np.ndarray, phi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """F statistic and first break coefficient, each (S, m), of every series at every date."""

@@ -92,8 +92,11 @@ class Search(ABC):
     def pieces(self, breaks: tuple) -> list[Piece]: ...
 
     @abstractmethod
-    def profile(self, breaks: tuple, which: int) -> tuple[np.ndarray, np.ndarray]:
-        """Break times and residual sums of squares as break ``which`` moves, the others fixed."""
+    def profile(self, breaks: tuple, which: int, ceiling: float = np.inf) -> tuple[np.ndarray, np.ndarray]:
+        """Break times and least residual sums of squares as break ``which`` moves, the others re-optimised.
+
+        Dates whose least RSS exceeds ``ceiling`` may be left out (a search may prune them unevaluated).
+        """
 
 
 class Segmenter(ABC):
@@ -134,9 +137,11 @@ class Segmenter(ABC):
         n_eff = min(n / nu, n)
         long_run_variance = fit.rss / max(n - p, 1) * nu
         critical = found.critical_value(self.confidence, max(n_eff - p - chosen, 1.0))
+        # Dates above this are outside every interval; a search need not evaluate them.
+        ceiling = found.best[chosen][1] + critical * long_run_variance * (1.0 + 1e-9)
         ranges = []
         for which in range(chosen):
-            times, rss = found.profile(breaks, which)
+            times, rss = found.profile(breaks, which, ceiling)
             inside = times[(rss - rss.min()) / long_run_variance <= critical]
             ranges.append((float(inside.min()), float(inside.max())))
         return Segmentation(

@@ -1,35 +1,54 @@
 """Continuous segmentation: lines joined at the breaks (a change of warming rate, not a jump).
 
 The mean is ``a + b t + sum_k c_k (t - tau_k)_+`` with knots ``tau_k`` on a grid of candidate
-times (whole years by default), every piece spanning at least ``min_size`` points. Joined
-pieces do not decompose into independent segment costs, so dynamic programming does not apply;
-the search is an exact enumeration of every admissible set of knots, made cheap by two facts:
+times (whole years by default), every piece spanning at least ``min_size`` points. Joined pieces
+do not decompose into independent segment costs, but they do form a chain (``chain.py``): written
+in the fitted values at the knots, the least RSS of everything up to a knot is a quadratic in the
+value there, one quadratic per way of placing the earlier knots, and the next knot's quadratics
+follow from the previous ones piece by piece. The search is exact dynamic programming over those
+functions with functional pruning (``envelope.py``): of the quadratics that reach a knot, only
+those on their lower envelope, below a ceiling, can be part of an optimum, and the rest are
+dropped. The ceiling is the best RSS already found minus a lower bound on the RSS of the rest of
+the series (separate lines, by ordinary dynamic programming over the same knots), so nothing
+that could still win is ever dropped. The result equals enumerating every admissible knot set
+(``tests/stats/test_segment.py`` checks it against brute force) at a small fraction of the cost:
+140 annual points with 10-year pieces and 4 breaks hold about 3 million knot sets, of which
+about a thousand quadratics per level survive.
 
-* with the line's two columns partialled out once, the residual sum of squares of a knot set S
-  is ``RSS0 - b_S' G_SS^-1 b_S`` where ``G`` and ``b`` are the Gram matrix and cross-products of
-  the partialled-out hinge columns of all candidates (computed once, m x m);
-* that quadratic form is ``|z|^2`` with ``z = L^-1 b_S`` and ``L`` the Cholesky factor of
-  ``G_SS``; adding one knot appends one row to ``L`` and one entry to ``z``.
-
-So the enumeration walks the tree of knot sets level by level (k knots -> k + 1), vectorised over
-all nodes of a level in chunks, each child costing O(k) vector operations. 140 annual points with
-10-year pieces and 4 breaks is about 3 million sets (about half a second).
-
-On the way it keeps, for every number of breaks k, position j and candidate time c, the least RSS
-of any k-knot set whose j-th knot is c: the profile of that break date with all the other
-breaks re-optimised, from which ``base.py`` reads the break's interval.
+The profile of a break date (the least RSS of any k-knot set whose j-th knot is c, every other
+knot re-optimised), from which ``base.py`` reads the break's interval, joins the forward
+quadratics at c with those of the same search run backwards in time. It is computed for the
+number of breaks asked about, only below the ceiling the interval needs: dates whose profile
+lies above it are left out, since they are outside the interval whatever their value.
 """
 
 from __future__ import annotations
+
+from dataclasses import dataclass
 
 import numpy as np
 from scipy import stats as sps
 
 from app.errors import InputError, Location
 from app.stats.segment.base import DEFAULT_MAX_BREAKS, DEFAULT_MIN_SIZE_YEARS, Piece, Search, Segmenter
+from app.stats.segment.chain import KnotChain, extend, join
+from app.stats.segment.envelope import envelope_members
 from app.stats.segment.result import Segmentation
 
-CHUNK = 400_000  # children expanded at once: bounds memory to a few tens of MB
+CHUNK = 20_000  # quadratics pruned at once: bounds the working arrays to a few tens of MB
+QUICK_KEEP = 3  # quadratics per knot in the quick pass that only seeks upper bounds
+TOLERANCE = 1e-9  # of the straight line's RSS: near-ties are kept, so rounding never drops an optimum
+
+
+@dataclass(frozen=True)
+class _Level:
+    """Quadratics that survived pruning at one number of knots, sorted by their last knot."""
+
+    last: np.ndarray  # index of the last knot
+    a: np.ndarray
+    b: np.ndarray
+    c: np.ndarray
+    parent: np.ndarray  # row in the previous level (-1 at the first knot)
 
 
 class ContinuousSearch(Search):
@@ -40,18 +59,12 @@ class ContinuousSearch(Search):
         points_up_to = np.searchsorted(t, knots, side="right")
         keep = (points_up_to >= min_size) & (n - points_up_to >= min_size)
         self.knots, self.points_up_to = knots[keep], points_up_to[keep]
-        q, _ = np.linalg.qr(np.column_stack([np.ones(n), t - self.t_mean]))
-        hinges = np.maximum(t[:, None] - self.knots[None, :], 0.0)
-        hinges -= q @ (q.T @ hinges)
-        y_rest = y - q @ (q.T @ y)
-        self.gram = hinges.T @ hinges
-        self.cross = hinges.T @ y_rest
-        self.rss_line = float(y_rest @ y_rest)
-        # First admissible index of the next knot: at least min_size points after this one.
-        self.next_index = np.searchsorted(self.points_up_to, self.points_up_to + min_size, side="left")
-        self._best: dict[int, tuple[tuple, float]] = {0: ((), self.rss_line)}
-        self._profiles: dict[int, np.ndarray] = {}  # k -> (k, m) least RSS with knot j at each candidate
-        self._enumerate(max_breaks)
+        self._chain = KnotChain(t, y, self.knots, self.points_up_to)
+        self._tolerance = TOLERANCE * max(self._chain.rss_line, 1e-300)
+        self._best: dict[int, tuple[tuple, float]] = {0: ((), self._chain.rss_line)}
+        self._profiles: dict[int, tuple[float, np.ndarray]] = {}  # k -> (ceiling, (k, m) least RSS)
+        if max_breaks > 0 and self.knots.size:
+            self._search(max_breaks)
 
     @staticmethod
     def critical_value(confidence: float, dof: float) -> float:
@@ -90,86 +103,164 @@ class ContinuousSearch(Search):
                              start_row=rows[s], end_row=rows[s + 1]))
         return out
 
-    def profile(self, breaks, which):
-        rss = self._profiles[len(breaks)][which]
-        reachable = np.isfinite(rss)
+    def profile(self, breaks, which, ceiling: float = np.inf):
+        k = len(breaks)
+        cached = self._profiles.get(k)
+        if cached is None or cached[0] < ceiling:
+            cached = (ceiling, self._profile_rows(k, ceiling))
+            self._profiles[k] = cached
+        rss = cached[1][which]
+        reachable = np.isfinite(rss) & (rss <= ceiling + self._tolerance)
         return self.knots[reachable], rss[reachable]
 
-    # ------------------------------------------------------------------ enumeration
+    # ------------------------------------------------------------------ search
 
-    def _enumerate(self, max_breaks: int) -> None:
-        m = self.knots.size
-        if max_breaks == 0 or m == 0:
-            return
-        self._profiles = {k: np.full((k, m), np.inf) for k in range(1, max_breaks + 1)}
-        first = np.arange(m)
-        diag = np.sqrt(self.gram[first, first])
-        singles = _Nodes(knots=first[:, None], factor=[[diag]], z=[self.cross / diag],
-                         rss=self.rss_line - (self.cross / diag) ** 2)
-        self._record(np.empty((m, 0), dtype=int), first, singles.rss)
-        if max_breaks > 1:
-            self._expand(singles, max_breaks)
+    def _search(self, max_breaks: int) -> None:
+        """Best knot set for every number of knots.
 
-    def _record(self, earlier: np.ndarray, new: np.ndarray, rss: np.ndarray) -> None:
-        """Update the best set and the per-position profiles with the sets (earlier knots..., new knot).
-
-        ``earlier`` holds the knot indices before the new one, shape (sets, size - 1).
+        A quick pass keeping only the few lowest quadratics per knot finds good sets, whose RSS
+        bound the optimum from above; the exact pass then prunes with those bounds.
         """
-        if rss.size == 0:
+        chain = self._chain
+        rest = _rest_bounds(chain, self.min_size, max_breaks + 1)
+        closing = chain.closing()
+        found = {0: self._chain.rss_line}
+        levels: list[_Level] = []
+
+        def visit(j, groups, parent, a, b, c):
+            totals = join(a, b, c, *(x[groups] for x in closing))
+            i = int(np.argmin(totals))
+            if totals[i] < found.get(j, np.inf):
+                found[j] = float(totals[i])
+                self._best[j] = (self._path(levels, groups[i], parent[i]), float(totals[i]))
+
+        def quick(j, groups, a, b, c):
+            return _lowest_per_group(groups, a, b, c, QUICK_KEEP)
+
+        _forward_pass(chain, self.min_size, max_breaks, quick, visit, levels)
+        upper = dict(found)
+        levels.clear()
+
+        def exact(j, groups, a, b, c):
+            if j == max_breaks:
+                return np.ones(groups.size, dtype=bool)  # nothing follows the last knot
+            reach = [min(upper.get(more, np.inf), *(found[i] for i in found if i <= more)) - rest[more - j + 1]
+                     for more in range(j + 1, max_breaks + 1)]
+            return envelope_members(groups, a, b, c, np.max(reach, axis=0)[groups], self._tolerance)
+
+        _forward_pass(chain, self.min_size, max_breaks, exact, visit, levels)
+
+    def _path(self, levels: list[_Level], last: int, parent: int) -> tuple[float, ...]:
+        knots = [int(last)]
+        for level in reversed(levels):
+            if parent < 0:
+                break
+            knots.append(int(level.last[parent]))
+            parent = int(level.parent[parent])
+        return tuple(float(self.knots[i]) for i in reversed(knots))
+
+    def _profile_rows(self, k: int, ceiling: float) -> np.ndarray:
+        """(k, m): least RSS with knot j at each candidate, or inf where that exceeds ``ceiling``."""
+        m = self.knots.size
+        passes = []
+        for chain in (self._chain, self._chain.mirrored()):
+            rest = _rest_bounds(chain, self.min_size, k)
+            levels: list[_Level] = []
+            def select(j, groups, a, b, c, rest=rest):
+                finishes = np.isfinite(rest[k - j + 1])  # where the rest cannot hold the other knots, nothing can
+                room = np.full(finishes.size, -np.inf)
+                room[finishes] = ceiling - rest[k - j + 1][finishes]
+                return envelope_members(groups, a, b, c, room[groups], self._tolerance)
+
+            _forward_pass(chain, self.min_size, k, select, None, levels)
+            passes.append(levels)
+        forward, backward = passes
+        rows = np.full((k, m), np.inf)
+        for j in range(k):
+            before, after = forward[j], backward[k - 1 - j]
+            after_last = m - 1 - after.last  # the backward pass counts knots from the end
+            order = np.argsort(after_last, kind="stable")
+            rows[j] = _pair_minimum(before, after, after_last[order], order, m)
+        return rows
+
+
+def _forward_pass(chain: KnotChain, min_size: int, n_levels: int, select, visit, levels: list[_Level]) -> None:
+    """Quadratics level by level: ``visit`` sees every candidate, ``select(j, groups, a, b, c)`` picks survivors."""
+    bounds = chain.bounds
+    m = bounds.size
+    following = np.searchsorted(bounds, bounds + min_size, side="left")
+    chunks = [(np.arange(m), np.full(m, -1), *chain.opening())]
+    for j in range(1, n_levels + 1):
+        kept = []
+        for groups, parent, a, b, c in chunks:
+            if visit is not None and groups.size:
+                visit(j, groups, parent, a, b, c)
+            mask = select(j, groups, a, b, c)
+            kept.append((groups[mask], a[mask], b[mask], c[mask], parent[mask]))
+        level = _Level(*(np.concatenate(parts) for parts in zip(*kept)))
+        levels.append(level)
+        if j == n_levels or level.last.size == 0:
             return
-        size = earlier.shape[1] + 1
-        profile = self._profiles[size]
-        for j in range(size - 1):
-            np.minimum.at(profile[j], earlier[:, j], rss)
-        np.minimum.at(profile[size - 1], new, rss)
-        i = int(np.argmin(rss))
-        if np.isfinite(rss[i]) and (size not in self._best or rss[i] < self._best[size][1]):
-            self._best[size] = (tuple(float(self.knots[j]) for j in [*earlier[i], new[i]]), float(rss[i]))
-
-    def _expand(self, nodes: "_Nodes", max_breaks: int) -> None:
-        """Add one knot to every set (in chunks of children), record them, and recurse."""
-        size = nodes.knots.shape[1]
-        starts = self.next_index[nodes.knots[:, -1]]
-        counts = np.maximum(self.knots.size - starts, 0)
-        boundaries = np.concatenate([[0], np.cumsum(counts)])
-        begin = 0
-        while begin < counts.size:
-            end = max(int(np.searchsorted(boundaries, boundaries[begin] + CHUNK, side="right")) - 1, begin + 1)
-            parent = np.repeat(np.arange(begin, end), counts[begin:end])
-            new = starts[parent] + np.arange(parent.size) - np.repeat(boundaries[begin:end] - boundaries[begin],
-                                                                       counts[begin:end])
-            row, diag, z_new, rss = self._extend(nodes, parent, new)
-            earlier = nodes.knots[parent]
-            self._record(earlier, new, rss)
-            if size + 1 < max_breaks:
-                factor = [[entry[parent] for entry in r] for r in nodes.factor] + [row + [diag]]
-                children = _Nodes(knots=np.column_stack([earlier, new]), factor=factor,
-                                  z=[entry[parent] for entry in nodes.z] + [z_new], rss=rss)
-                self._expand(children, max_breaks)
-            begin = end
-
-    def _extend(self, nodes: "_Nodes", parent: np.ndarray, new: np.ndarray):
-        """The new Cholesky row (forward substitution L l = G[S, new]), its pivot, the new z entry and the RSS."""
-        size = nodes.knots.shape[1]
-        row = []
-        for i in range(size):
-            value = self.gram[nodes.knots[parent, i], new]
-            for r in range(i):
-                value = value - nodes.factor[i][r][parent] * row[r]
-            row.append(value / nodes.factor[i][i][parent])
-        pivot = self.gram[new, new] - sum(v * v for v in row)
-        ok = pivot > 1e-12 * self.gram[new, new]  # knots too close to tell apart add no new direction
-        diag = np.sqrt(np.where(ok, pivot, 1.0))
-        z_new = (self.cross[new] - sum(row[r] * nodes.z[r][parent] for r in range(size))) / diag
-        rss = np.where(ok, nodes.rss[parent] - z_new * z_new, np.inf)
-        return row, diag, z_new, rss
+        chunks = _children(chain, following, level, m)
 
 
-class _Nodes:
-    """A batch of knot sets of one size: knot indices, the Cholesky factor's rows, z = L^-1 b, and RSS."""
+def _lowest_per_group(groups: np.ndarray, a: np.ndarray, b: np.ndarray, c: np.ndarray, keep: int) -> np.ndarray:
+    """Mask of the ``keep`` quadratics with the lowest minima in each group (a heuristic, for upper bounds)."""
+    order = np.lexsort((c - b * b / a, groups))
+    first = np.searchsorted(groups[order], groups[order], side="left")
+    mask = np.zeros(groups.size, dtype=bool)
+    mask[order[np.arange(groups.size) - first < keep]] = True
+    return mask
 
-    def __init__(self, knots, factor, z, rss):
-        self.knots, self.factor, self.z, self.rss = knots, factor, z, rss
+
+def _children(chain: KnotChain, following: np.ndarray, level: _Level, m: int):
+    """Every survivor extended by one piece to every admissible next knot, in chunks of whole groups."""
+    per_group = np.searchsorted(following[level.last], np.arange(m), side="right")
+    cumulative = np.cumsum(per_group)
+    begin = 0
+    while begin < m:
+        done = int(cumulative[begin - 1]) if begin else 0
+        end = max(int(np.searchsorted(cumulative, done + CHUNK, side="right")), begin + 1)
+        counts = per_group[begin:end]
+        groups = np.repeat(np.arange(begin, end), counts)
+        parent = np.arange(groups.size) - np.repeat(np.cumsum(counts) - counts, counts)
+        a, b, c = extend(level.a[parent], level.b[parent], level.c[parent],
+                         *chain.between(level.last[parent], groups))
+        yield groups, parent, a, b, c
+        begin = end
+
+
+def _rest_bounds(chain: KnotChain, min_size: int, most_pieces: int) -> dict[int, np.ndarray]:
+    """pieces -> (m,) least RSS of the points after each knot in that many separate lines: a lower bound."""
+    bounds = chain.bounds
+    following = np.searchsorted(bounds, bounds + min_size, side="left")
+    index = np.arange(bounds.size)
+    single = chain.line_costs(bounds[:, None], bounds[None, :])
+    single = np.where(index[None, :] >= following[:, None], single, np.inf)
+    rest = {1: chain.line_costs(bounds, chain.n)}
+    for pieces in range(2, most_pieces + 1):
+        rest[pieces] = np.min(single + rest[pieces - 1][None, :], axis=1)
+    return rest
+
+
+def _pair_minimum(before: _Level, after: _Level, after_last: np.ndarray, order: np.ndarray, m: int) -> np.ndarray:
+    """For each knot, the least joined value over every forward and backward quadratic meeting there."""
+    knots = np.arange(m)
+    f_start = np.searchsorted(before.last, knots, side="left")
+    f_count = np.searchsorted(before.last, knots, side="right") - f_start
+    b_start = np.searchsorted(after_last, knots, side="left")
+    b_count = np.searchsorted(after_last, knots, side="right") - b_start
+    pairs = f_count * b_count
+    out = np.full(m, np.inf)
+    if not pairs.sum():
+        return out
+    knot = np.repeat(knots, pairs)
+    within = np.arange(knot.size) - np.repeat(np.cumsum(pairs) - pairs, pairs)
+    f = f_start[knot] + within // b_count[knot]
+    g = order[b_start[knot] + within % b_count[knot]]
+    values = join(before.a[f], before.b[f], before.c[f], after.a[g], after.b[g], after.c[g])
+    np.minimum.at(out, knot, values)
+    return out
 
 
 class ContinuousSegmenter(Segmenter):

@@ -76,7 +76,7 @@ class DiscontinuousSearch(Search):
                              slope_row=rows[0], start_row=rows[1], end_row=rows[2]))
         return out
 
-    def profile(self, breaks, which):
+    def profile(self, breaks, which, ceiling=np.inf):
         """Least total cost with break ``which`` at each position and every other break re-optimised.
 
         Forward: the best ``which + 1`` segments ending at the position; backward: the best
