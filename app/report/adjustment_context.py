@@ -6,13 +6,12 @@ The document's ``adjustment`` holds the fitted factors and the full audit of the
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from typing import Any
 
 from app.report.adjusted_chart import factor_names
 from app.report.context import VERDICT_LABELS
-from app.report.numbers import Rate, format_p, format_percent, is_number, time_of
+from app.report.numbers import Rate, format_p, format_percent, is_number, shared_decimals, time_of
 
 LAG_UNITS = {"annual": "year", "quarterly": "quarter", "monthly": "month"}
 LAG_RULE_WORDS = {"ls": "the one that fits best by least squares",
@@ -68,12 +67,6 @@ def _range(interval: Any) -> str:
     return f"{_number(interval[0])} to {_number(interval[1])}"
 
 
-def _shared_decimals(*values: Any) -> int:
-    """Decimals that give the larger value three significant digits, so two spreads are written alike."""
-    finite = [abs(v) for v in values if is_number(v) and v != 0]
-    return max(0, 2 - math.floor(math.log10(max(finite)))) if finite else 2
-
-
 def lag_text(lag: Any, lag_years: Any, sampling: str) -> str:
     """'5 months (0.42 years)', '1 year', 'none'."""
     if not is_number(lag):
@@ -117,7 +110,7 @@ def _comparison(doc: dict[str, Any], adjusted: dict[str, Any], adjustment: dict[
         return ComparisonRow(label, show(doc), show(adjusted))
 
     raw_sd, adjusted_sd = adjustment.get("residual_sd_raw"), adjustment.get("residual_sd_adjusted")
-    decimals = _shared_decimals(raw_sd, adjusted_sd)
+    decimals = shared_decimals(raw_sd, adjusted_sd)
 
     def spread(value: Any) -> str:
         return (f"{value:.{decimals}f}" if is_number(value) else "undetermined") + (f" {units}" if units else "")

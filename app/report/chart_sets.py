@@ -13,6 +13,7 @@ from typing import Any
 
 from app.report.adjusted_chart import ADJUSTED_CHART, ADJUSTED_CHART_NAME
 from app.report.charts import CHART_NAMES, CHARTS, ChartSpec
+from app.report.correlation_charts import CORRELATION_CHART_NAMES, CORRELATION_CHART_SPECS
 
 
 @dataclass(frozen=True)
@@ -31,3 +32,5 @@ def _audit_chart_names(document: dict[str, Any]) -> tuple[str, ...]:
 
 
 AUDIT_CHARTS = ChartSet("audit", "/audits", {**CHARTS, ADJUSTED_CHART_NAME: ADJUSTED_CHART}, _audit_chart_names)
+CORRELATION_CHARTS = ChartSet("correlation", "/correlations", CORRELATION_CHART_SPECS,
+                              lambda document: CORRELATION_CHART_NAMES)

@@ -125,6 +125,12 @@ def safe_href(url: str | None) -> str | None:
     return url.strip() if parts.scheme in ("http", "https") and parts.netloc else None
 
 
+def source_view_of(source: dict[str, Any] | None) -> SourceView:
+    source = source or {}
+    return SourceView(name=str(source.get("name") or ""), url=str(source.get("url") or ""),
+                      href=safe_href(source.get("url")), notes=str(source.get("notes") or ""))
+
+
 def _get(mapping: Any, *keys: str, default: Any = None) -> Any:
     for key in keys:
         if not isinstance(mapping, dict) or key not in mapping:
@@ -133,7 +139,7 @@ def _get(mapping: Any, *keys: str, default: Any = None) -> Any:
     return default if mapping is None else mapping
 
 
-def _created(created_at: Any) -> str:
+def created_text(created_at: Any) -> str:
     """Creation time to the minute, in UTC; the API's body carries it as ISO 8601 text."""
     if isinstance(created_at, str):
         try:
@@ -264,10 +270,8 @@ def report_context(*, audit_id: str, title: str, created_at: Any, document: dict
     doc = document
     rate = Rate.of(doc)
     conf = f"{100 * float(_get(doc, 'options', 'confidence', default=0.95)):.0f}%"
-    source = source or {}
-    source_view = SourceView(name=str(source.get("name") or ""), url=str(source.get("url") or ""),
-                             href=safe_href(source.get("url")), notes=str(source.get("notes") or ""))
-    created = _created(created_at)
+    source_view = source_view_of(source)
+    created = created_text(created_at)
     verdict = doc.get("verdict") or {}
     code = verdict.get("code", "")
     base = base_url.rstrip("/")

@@ -71,8 +71,9 @@ X_LABEL_SPACE = 0.2  # the axis label under them, when there is one
 LEGEND_ROW = 0.185  # measured: 8-point legend text with matplotlib's default spacing
 LEGEND_PAD = 0.14
 LEGEND_FOOT = 0.05
-COLORBAR_SPACE = 1.25
-MAX_TICKS = 7  # the colour scale, its ticks and its label, right of the plot
+COLORBAR_SPACE = 1.25  # the colour scale, its ticks and its label, right of the plot
+MAX_TICKS = 7  # per axis: every tick is several artists to draw
+RIGHT_AXIS_SPACE = 0.65  # a second value axis on the right: its ticks and its label
 
 
 def new_figure(width: float = 7.0) -> Figure:
@@ -82,12 +83,13 @@ def new_figure(width: float = 7.0) -> Figure:
 
 
 def lay_out(fig: Figure, ax, *, plot_height: float, legend_columns: int = 1, title: str = "",
-            colorbar_mappable=None, also_in_key=()):
+            colorbar_mappable=None, also_in_key=(), right_axis: bool = False):
     """Sizes the figure around a plot of ``plot_height`` inches, with the key under it; returns the colour bar.
 
     ``title`` (already wrapped) goes above the plot at a fixed place: an Axes title would be
     positioned by measuring every tick label, a large share of the drawing time. The key lists
     ``ax``'s labelled artists, then those of the axes in ``also_in_key`` whose labels are new.
+    ``right_axis`` leaves room for a twin value axis on the right.
     """
     handles, labels = ax.get_legend_handles_labels()
     for other in also_in_key:
@@ -102,7 +104,8 @@ def lay_out(fig: Figure, ax, *, plot_height: float, legend_columns: int = 1, tit
     bottom = X_TICKS_SPACE + (X_LABEL_SPACE if ax.get_xlabel() else 0.0) + (
         rows * LEGEND_ROW + LEGEND_PAD + LEGEND_FOOT if rows else 0.0)
     height = plot_height + top + bottom
-    right = MARGIN_RIGHT + (COLORBAR_SPACE if colorbar_mappable is not None else 0.0)
+    right = MARGIN_RIGHT + (COLORBAR_SPACE if colorbar_mappable is not None else 0.0) + (
+        RIGHT_AXIS_SPACE if right_axis else 0.0)
     fig.set_size_inches(width, height)
     ax.set_position([MARGIN_LEFT / width, bottom / height, (width - MARGIN_LEFT - right) / width,
                      plot_height / height])

@@ -12,11 +12,18 @@ from typing import Any
 from app.audit.verdict import format_p, format_rate
 from app.ingest.sampling import PERIODS_PER_YEAR, period_label
 
-__all__ = ["Rate", "format_p", "format_percent", "format_rate", "format_time", "format_years", "is_number", "time_of"]
+__all__ = ["Rate", "format_p", "format_percent", "format_rate", "format_time", "format_years", "is_number",
+           "shared_decimals", "time_of"]
 
 
 def is_number(value: Any) -> bool:
     return isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
+
+
+def shared_decimals(*values: Any, digits: int = 3) -> int:
+    """Decimals that give the largest value ``digits`` significant digits, so related numbers are written alike."""
+    finite = [abs(v) for v in values if is_number(v) and v != 0]
+    return max(0, digits - 1 - math.floor(math.log10(max(finite)))) if finite else digits - 1
 
 
 def format_time(value: Any, sampling: str = "") -> str:

@@ -7,11 +7,13 @@ document is present as ``app.audit.serialize.audit_document`` writes it, after a
 
 from __future__ import annotations
 
+import dataclasses
 import json
 from datetime import datetime, timezone
 from functools import lru_cache
 
 from app.audit import AuditOptions, Claim, audit_document, run_audit
+from app.correlation import CorrelationOptions, correlation_document, run_correlation
 from app.ingest import IngestOptions, read_csv_text
 from app.settings import PROJECT_ROOT
 from app.stats.adjust import Covariate
@@ -43,6 +45,20 @@ def adjusted_document(factor: str = "ocean_index", simulations: int = 200, seed:
     result = run_audit(table.series, claim, AuditOptions(simulations=simulations, seed=seed),
                        covariates=[Covariate(factor, index.time, index.value)])
     return json.dumps(audit_document(result))
+
+
+@lru_cache(maxsize=None)
+def correlation_document_text(driver_label: str = "Greenhouse index", driver_units: str = "ppm",
+                              response_label: str = "Quorvane temperature", response_units: str = "°C",
+                              transform: str = "log", window_years: float = 15.0, simulations: int = 200,
+                              seed: int = 20250316) -> str:
+    """A stored correlation audit: the invented temperature that follows the invented greenhouse index."""
+    table = read_csv_text((SAMPLES / "quorvane-forced-temperature.csv").read_bytes(),
+                          IngestOptions(label=response_label, units=response_units))
+    driver = dataclasses.replace(table.extra_columns["greenhouse_index"], label=driver_label, units=driver_units)
+    result = run_correlation(driver, table.series, CorrelationOptions(window_years=window_years, transform=transform,
+                                                                      simulations=simulations, seed=seed))
+    return json.dumps(correlation_document(result))
 
 
 def stored_body(document_json: str, audit_id: str = "AbCdEfGhIjKlMnOpQrStUvWx", title: str = "Has it stopped?"):

@@ -4,61 +4,27 @@ from __future__ import annotations
 
 import json
 import re
-from html.parser import HTMLParser
 
 from app.report.context import VERDICT_LABELS, report_context, safe_href
 from app.report.numbers import Rate, format_time
 from app.report.render import render_report
 from app.store import AuditRecord
 from report.documents import CREATED, sample_document, stored_body
+from report.outline import outline
 
 CITATIONS = ("Santer et al. (2008)", "Foster &amp; Rahmstorf (2011)", "Weatherhead et al. (1998)", "Andrews (1993)",
              "Bai &amp; Perron (1998, 2003)", "Hamed &amp; Rao (1998)", "Sen’s (1968)", "Mann 1945", "Kendall 1975",
              "Zeileis et al. 2002")
 
 
-class _Outline(HTMLParser):
-    """Headings and figures in document order, and every element's id, to check the page's structure."""
-
-    def __init__(self) -> None:
-        super().__init__()
-        self.order: list[str] = []
-        self.ids: list[str] = []
-        self._in_heading: str | None = None
-
-    def handle_starttag(self, tag, attrs):
-        attrs = dict(attrs)
-        if "id" in attrs:
-            self.ids.append(attrs["id"])
-        if tag in ("h1", "h2", "h3"):
-            self._in_heading = tag
-            self.order.append(f"{tag}:")
-        elif tag in ("figure", "figcaption", "table"):
-            self.order.append(tag)
-
-    def handle_endtag(self, tag):
-        if tag == self._in_heading:
-            self._in_heading = None
-
-    def handle_data(self, data):
-        if self._in_heading and self.order:
-            self.order[-1] += data.strip()
-
-
-def _outline(html: str) -> _Outline:
-    parser = _Outline()
-    parser.feed(html)
-    return parser
-
-
 def test_the_verdict_comes_first_then_the_numbers_then_the_evidence(document):
     html = render_report(stored_body(json.dumps(document)))
-    outline = _outline(html).order
-    headings = [item for item in outline if item.startswith("h")]
+    order = outline(html).order
+    headings = [item for item in order if item.startswith("h")]
     assert headings[0] == "h1:Has it stopped?"
     assert headings[1] == "h2:" + document["verdict"]["headline"]
     assert headings[2] == "h2:The key numbers"
-    assert outline.index("figure") > outline.index(headings[2])
+    assert order.index("figure") > order.index(headings[2])
     assert VERDICT_LABELS[document["verdict"]["code"]] in html
     assert document["verdict"]["summary"].replace("'", "&#39;") in html
 
@@ -73,7 +39,7 @@ def test_five_figures_each_with_a_caption_and_a_text_alternative(document):
 
 
 def test_every_id_on_the_page_is_unique(document):
-    ids = _outline(render_report(stored_body(json.dumps(document)))).ids
+    ids = outline(render_report(stored_body(json.dumps(document)))).ids
     assert len(ids) == len(set(ids))
 
 
