@@ -50,6 +50,10 @@ def _histogram(values: np.ndarray) -> dict[str, Any]:
     values = values[np.isfinite(values)]
     if values.size == 0:
         return {"edges": [], "counts": []}
+    low, high = float(values.min()), float(values.max())
+    if high - low <= HISTOGRAM_BINS * np.spacing(max(abs(low), abs(high))):
+        # All equal to within rounding (a noiseless series simulates one slope): one bar, not 40 of zero width.
+        return {"edges": [low, high], "counts": [int(values.size)]}
     counts, edges = np.histogram(values, bins=HISTOGRAM_BINS)
     return {"edges": edges, "counts": counts}
 

@@ -16,7 +16,7 @@ from app.ingest.sampling import detect_sampling, gap_count, gap_times, period_la
 from app.ingest.series import Series
 from app.ingest.times import TimeAxis, parse_time_column
 from app.ingest.transform import annual_means, anomalies
-from app.ingest.validate import check_enough_values, check_not_constant, check_order
+from app.ingest.validate import check_computable_scale, check_enough_values, check_not_constant, check_order
 
 
 @dataclass(frozen=True)
@@ -59,6 +59,7 @@ def build_series(time_cells: Sequence[str], value_cells: Sequence[str], places: 
     check_enough_values(int((~missing).sum()), int(missing.sum()) + gap_count(axis.times, sampling), places.values())
     series = series_on_axis(axis, values, sampling, label=label, units=units)
     check_not_constant(series.value, places.values())
+    check_computable_scale(series.value, places.values())
     series = apply_options(series, options, places.values())
     gap_labels = tuple(period_label(t, sampling) for t in gap_times(axis.times, sampling))
     return BuiltSeries(series=series, axis=axis, sampling=sampling,
@@ -90,4 +91,5 @@ def apply_options(series: Series, options: IngestOptions, where: Location) -> Se
         series = annual_means(series, options.min_months_per_year)
         check_enough_values(series.n, 0, where, after=" after annual means")
         check_not_constant(series.value, where)
+        check_computable_scale(series.value, where)
     return series

@@ -56,6 +56,24 @@ def check_not_constant(values: np.ndarray, where: Location) -> None:
                                  location=where, fix="Check that the right column was chosen as the value")
 
 
+# Beyond these magnitudes the sums of squares behind a residual variance leave double precision: 1e160 squared
+# overflows, a spread of 1e-160 squared underflows to zero. Real measurements sit far inside. Common practice, no source.
+LARGEST_VALUE = 1e100
+SMALLEST_SPREAD = 1e-100
+
+
+def check_computable_scale(values: np.ndarray, where: Location) -> None:
+    """Values the statistics can square and sum without overflow or underflow."""
+    if not values.size:
+        return
+    largest, spread = float(np.max(np.abs(values))), float(np.ptp(values))
+    if largest > LARGEST_VALUE or 0 < spread < SMALLEST_SPREAD:
+        raise SeriesContentError(
+            f"the values reach {largest:.3g} and vary by {spread:.3g}: too far from ordinary magnitudes to compute "
+            f"with (the limits are {LARGEST_VALUE:g} and a spread of {SMALLEST_SPREAD:g})", location=where,
+            fix="Rescale the values, e.g. express them in other units")
+
+
 def validate_series(series: Series, field: str = "series") -> None:
     """Everything later layers rely on: equal-length finite 1-D arrays, increasing times, enough varying values."""
     places = FieldPlaces(field)
@@ -78,6 +96,7 @@ def validate_series(series: Series, field: str = "series") -> None:
     check_order(time, [repr(float(t)) for t in time], places)
     check_enough_values(time.size, 0, places.values())
     check_not_constant(value, places.values())
+    check_computable_scale(value, places.values())
 
 
 def check_window_in_series(series: Series, start: float, end: float, field_prefix: str = "claim") -> None:

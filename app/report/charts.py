@@ -79,7 +79,9 @@ def trend_band(ax, line: dict[str, Any], colour: str, label: str, linestyle: str
     t = stored_array(line.get("time"))
     if t.size == 0:
         return
-    ax.fill_between(t, stored_array(line["lower"]), stored_array(line["upper"]), color=colour, alpha=0.16, linewidth=0)
+    if line.get("lower") is not None and line.get("upper") is not None:  # no band when the noise is nil
+        ax.fill_between(t, stored_array(line["lower"]), stored_array(line["upper"]), color=colour, alpha=0.16,
+                        linewidth=0)
     ax.plot(t, stored_array(line["value"]), color=colour, linewidth=2.0, linestyle=linestyle, label=label)
 
 

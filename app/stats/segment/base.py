@@ -142,7 +142,9 @@ class Segmenter(ABC):
         ranges = []
         for which in range(chosen):
             times, rss = found.profile(breaks, which, ceiling)
-            inside = times[(rss - rss.min()) / long_run_variance <= critical]
+            excess = rss - rss.min()
+            # A noiseless series (a clean step) fits some segmentation exactly: its range is the best date alone.
+            inside = times[excess / long_run_variance <= critical] if long_run_variance > 0 else times[excess <= 0]
             ranges.append((float(inside.min()), float(inside.max())))
         return Segmentation(
             form=self.form,
