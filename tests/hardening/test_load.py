@@ -1,0 +1,144 @@
+"""Load: 24 clients for 20 seconds against a real server on loopback, mixing creates, reads, report pages,
+chart and CSV downloads.
+
+Every answer must be a success or the deliberate 503 of a full compute pool (with Retry-After); every
+audit acknowledged with 201 must read back the same afterwards; the server's resident memory, sampled
+from /proc twice a second, must level off; and its log must hold no traceback, key or owner token.
+"""
+
+from __future__ import annotations
+
+import collections
+import random
+import statistics
+import threading
+import time
+
+import httpx
+import pytest
+
+from api.conftest import invented_series
+from api.servers import Server
+
+from .resources import rss_bytes
+
+pytestmark = pytest.mark.slow  # 20 s of load plus start-up and read-back
+
+CLIENTS = 24
+SECONDS = 20.0
+KEY = "load-test-key-0123456789abcdef"
+AUTH = {"Authorization": f"Bearer {KEY}"}
+MIX = (("create", 3), ("read", 2), ("report", 2), ("csv", 2), ("list", 1), ("chart", 1))
+
+
+def _body(rng: random.Random) -> dict:
+    series = invented_series(seed=rng.randrange(10**6), start=1960, end=2020)
+    return {"title": "Load test", "series": series, "claim": {"start": 1998, "end": 2012},
+            "options": {"simulations": 100, "seed": rng.randrange(10**6)}}
+
+
+class Run:
+    def __init__(self, url: str) -> None:
+        self.url = url
+        self.stop = threading.Event()
+        self.lock = threading.Lock()
+        self.acknowledged: dict[str, dict] = {}
+        self.answers: collections.Counter = collections.Counter()
+        self.unexpected: list[str] = []
+        self.seconds: dict[str, list[float]] = collections.defaultdict(list)
+
+    def known_id(self, rng: random.Random) -> str | None:
+        with self.lock:
+            return rng.choice(list(self.acknowledged)) if self.acknowledged else None
+
+    def client(self, number: int) -> None:
+        rng = random.Random(number)
+        actions = [name for name, weight in MIX for _ in range(weight)]
+        with httpx.Client(base_url=self.url, timeout=60) as http:
+            while not self.stop.is_set():
+                action = rng.choice(actions)
+                audit_id = self.known_id(rng)
+                if audit_id is None:
+                    action = "create"
+                started = time.monotonic()
+                if action == "create":
+                    response = http.post("/api/v1/audits", json=_body(rng), headers=AUTH)
+                elif action == "read":
+                    response = http.get(f"/api/v1/audits/{audit_id}")
+                elif action == "report":
+                    response = http.get(f"/audits/{audit_id}")
+                elif action == "csv":
+                    response = http.get(f"/api/v1/audits/{audit_id}/data.csv")
+                elif action == "chart":
+                    response = http.get(f"/audits/{audit_id}/charts/{rng.choice(['series', 'null'])}.svg")
+                else:
+                    response = http.get("/api/v1/audits", headers=AUTH)
+                self.record(action, response, time.monotonic() - started)
+
+    def record(self, action: str, response: httpx.Response, seconds: float) -> None:
+        status = response.status_code
+        with self.lock:
+            self.answers[(action, status)] += 1
+            self.seconds[action].append(seconds)
+            if action == "create" and status == 201:
+                body = response.json()
+                self.acknowledged[body["id"]] = body
+            elif status == 503 and action == "create" and int(response.headers.get("retry-after", 0)) > 0:
+                pass  # the deliberate back-pressure of a full compute pool
+            elif status != 200 and not (action == "create" and status == 201):
+                self.unexpected.append(f"{action} {status}: {response.text[:300]}")
+
+
+def _sample_memory(pid: int, stop: threading.Event, samples: list[tuple[float, int]]) -> None:
+    started = time.monotonic()
+    while not stop.is_set():
+        samples.append((time.monotonic() - started, rss_bytes(pid)))
+        stop.wait(0.5)
+
+
+def test_mixed_load_answers_everything_keeps_every_audit_and_levels_off_in_memory(tmp_path):
+    server = Server(f"sqlite:///{tmp_path / 'load.sqlite3'}", tmp_path / "server.log", api_keys=KEY,
+                    compute_workers="2", compute_queue="8")
+    run = Run(server.url)
+    samples: list[tuple[float, int]] = []
+    sampler_stop = threading.Event()
+    sampler = threading.Thread(target=_sample_memory, args=(server.process.pid, sampler_stop, samples))
+    clients = [threading.Thread(target=run.client, args=(i,)) for i in range(CLIENTS)]
+    try:
+        sampler.start()
+        for thread in clients:
+            thread.start()
+        time.sleep(SECONDS)
+        run.stop.set()
+        for thread in clients:
+            thread.join(timeout=120)
+        sampler_stop.set()
+        sampler.join()
+
+        with httpx.Client(base_url=server.url, timeout=60) as http:
+            lost = [audit_id for audit_id, body in run.acknowledged.items()
+                    if http.get(f"/api/v1/audits/{audit_id}").json() != {k: v for k, v in body.items()
+                                                                          if k != "owner_token"}]
+        log = server.log()
+    finally:
+        run.stop.set()
+        sampler_stop.set()
+        server.stop()
+
+    mb = [rss / 2**20 for _, rss in samples]
+    quarter = max(len(mb) // 4, 1)
+    settled, final = statistics.median(mb[quarter:2 * quarter]), statistics.median(mb[-quarter:])
+    timings = {action: f"median {statistics.median(s) * 1000:.0f} ms, max {max(s) * 1000:.0f} ms"
+               for action, s in run.seconds.items()}
+    print(f"\nload: {sum(run.answers.values())} requests by {CLIENTS} clients in {SECONDS:.0f} s;",
+          dict(sorted(run.answers.items())), f"\n{len(run.acknowledged)} audits acknowledged;", timings,
+          f"\nRSS MB: start {mb[0]:.0f}, second quarter median {settled:.0f}, last quarter median {final:.0f}, "
+          f"peak {max(mb):.0f}; samples every 0.5 s: {[round(m) for m in mb[::4]]}")
+
+    assert not run.unexpected, run.unexpected[:5]
+    assert len(run.acknowledged) >= 20
+    assert not lost, f"{len(lost)} acknowledged audits do not read back the same"
+    # Level: after warming up (imports, first charts) memory grows by little; the chart cache is bounded.
+    assert final - settled < 60, (settled, final)
+    assert "Traceback" not in log
+    assert KEY not in log and not any(body["owner_token"] in log for body in run.acknowledged.values())
