@@ -8,18 +8,18 @@ from fastapi import FastAPI
 from fastapi.openapi.utils import get_openapi
 
 from app import __version__
-from app.api import audits, samples, trend
+from app.api import audits, correlations, samples, trend
 from app.api.limits import BodySizeLimit
 from app.api.openapi_problems import document_problems
 from app.api.problems import install_problem_handlers
 from app.api.runtime import RuntimeHolder
-from app.api.schemas import AuditRequest, MultipartAuditForm
+from app.api.schemas import AuditRequest, CorrelationRequest, MultipartAuditForm
 from app.security import install_security_headers
 from app.settings import Settings
 from app.web import routers as desk_routers
 
 # Bodies read by hand (JSON or multipart on one path) are described here so /docs can show them.
-HAND_READ_BODIES = (AuditRequest, MultipartAuditForm)
+HAND_READ_BODIES = (AuditRequest, MultipartAuditForm, CorrelationRequest)
 
 
 def _openapi_with(application: FastAPI, models) -> dict:
@@ -60,7 +60,8 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     for router in desk_routers:  # the browser desk: HTML pages, their assets, chart downloads
         application.include_router(router)
     application.add_middleware(BodySizeLimit, max_bytes=settings.max_upload_bytes)
-    for router in (audits.router, audits.pages, samples.router, trend.router):
+    for router in (audits.router, audits.pages, correlations.router, correlations.pages, samples.router,
+                   trend.router):
         application.include_router(router)
     application.openapi = lambda: _openapi_with(application, HAND_READ_BODIES)
 

@@ -6,20 +6,21 @@ from typing import Any
 
 from fastapi import APIRouter, Depends, Header, Path, Query, Request
 from fastapi.concurrency import run_in_threadpool
-from fastapi.exceptions import RequestValidationError
 from fastapi.responses import HTMLResponse, JSONResponse, Response
-from pydantic import ValidationError
 from starlette.datastructures import FormData, UploadFile
 
-from app.api.csv_export import audit_data_csv
+from app.api.bodies import is_json, media_type, validated
+from app.api.covariates import column_names
+from app.api.csv_export import audit_data_csv, csv_download
 from app.api.deps import get_runtime, require_api_key
 from app.api.runtime import Runtime
 from app.api.schemas import AuditOut, AuditPage, AuditRequest
 from app.api.service import (AuditJob, audit_body, audit_links, audit_options, compute_document,
-                             job_from_csv, job_from_json, make_claim, rename_fields, store_audit)
+                             job_from_csv, job_from_json, list_page, make_claim, rename_fields, store_audit)
 from app.errors import InputError, Location, SeriesFormatError, UnsupportedMediaType
 from app.report.render import render_report
 from app.settings import Settings
+from app.store import AUDIT
 from app.store.audits import MAX_PAGE_SIZE
 
 router = APIRouter(prefix="/api/v1/audits", tags=["audits"])
@@ -44,11 +45,11 @@ CREATE_BODY = {
 
 async def job_from_request(request: Request, settings: Settings) -> AuditJob:
     """Reads the body without blocking, then parses it in a worker thread: a 5 MB CSV takes a moment."""
-    media_type = request.headers.get("content-type", "").split(";")[0].strip().lower()
-    if media_type == "application/json" or media_type.endswith("+json"):
+    kind = media_type(request)
+    if is_json(kind):
         raw = await request.body()
         return await run_in_threadpool(_job_from_json_bytes, raw, settings)
-    if media_type == "multipart/form-data":
+    if kind == "multipart/form-data":
         async with request.form(max_files=1, max_fields=60) as form:
             upload = form.get("file")
             if not isinstance(upload, UploadFile):
@@ -56,16 +57,12 @@ async def job_from_request(request: Request, settings: Settings) -> AuditJob:
                                         fix="Attach the CSV as the form field 'file'")
             data = await upload.read()
             return await run_in_threadpool(_job_from_form, form, data, upload.filename, settings)
-    raise UnsupportedMediaType(f"the body is '{media_type or 'untyped'}'", location=Location(field="Content-Type"),
+    raise UnsupportedMediaType(f"the body is '{kind or 'untyped'}'", location=Location(field="Content-Type"),
                                fix="Send application/json, or multipart/form-data with the CSV in the field 'file'")
 
 
 def _job_from_json_bytes(raw: bytes, settings: Settings) -> AuditJob:
-    try:
-        body = AuditRequest.model_validate_json(raw)
-    except ValidationError as error:
-        raise RequestValidationError(error.errors(include_url=False)) from None
-    return job_from_json(body, settings)
+    return job_from_json(validated(AuditRequest, raw), settings)
 
 
 def _job_from_form(form: FormData, data: bytes, filename: str | None, settings: Settings) -> AuditJob:
@@ -80,7 +77,8 @@ def _job_from_form(form: FormData, data: bytes, filename: str | None, settings: 
             decimal_comma=_flag(form, "decimal_comma"), missing_sentinels=_sentinels(form),
             source={"name": _text(form, "source_name"), "url": _text(form, "source_url"),
                     "notes": _text(form, "source_notes")},
-            filename=filename)
+            filename=filename, covariate_columns=_texts(form, "covariate_columns"),
+            covariate_max_lag=_number(form, "covariate_max_lag", int))
     except InputError as error:
         raise rename_fields(error, FORM_FIELD_NAMES) from None
 
@@ -92,6 +90,15 @@ def _text(form: FormData, name: str) -> str | None:
                          fix=f"Send '{name}' as a plain form field")
     value = (value or "").strip()
     return value or None
+
+
+def _texts(form: FormData, name: str) -> tuple[str, ...]:
+    """A field that may be repeated, each copy holding one name or several separated by commas."""
+    for value in form.getlist(name):
+        if isinstance(value, UploadFile):
+            raise InputError(f"'{name}' should be a text field, not a file", location=Location(field=name),
+                             fix=f"Send '{name}' as a plain form field")
+    return column_names(form.getlist(name))
 
 
 def _required(form: FormData, name: str) -> str:
@@ -159,19 +166,14 @@ async def create_audit(request: Request, runtime: Runtime = Depends(get_runtime)
 def list_audits(limit: int = Query(20, ge=1, le=MAX_PAGE_SIZE, description="Audits per page"),
                 cursor: str | None = Query(None, description="next_cursor from the previous page", max_length=64),
                 runtime: Runtime = Depends(get_runtime)) -> dict[str, Any]:
-    page = runtime.audits.list(limit=limit, cursor=cursor)
-    items = [{"id": item.id, "kind": item.kind, "title": item.title,
-              "created_at": item.created_at.isoformat().replace("+00:00", "Z"), "summary": item.summary,
-              **{k: v for k, v in audit_links(item.id, runtime.settings).items() if k in ("url", "report_url")}}
-             for item in page.items]
-    return {"items": items, "next_cursor": page.next_cursor}
+    return list_page(runtime.audits.list(limit=limit, cursor=cursor, kind=AUDIT), audit_links, runtime.settings)
 
 
 @router.get("/{audit_id}", response_model=AuditOut, response_model_exclude_none=False,
             summary="Read one audit (no key needed: the id is the capability)",
             responses={404: {"description": "No audit with that id"}})
 def get_audit(audit_id: str = AUDIT_ID, runtime: Runtime = Depends(get_runtime)) -> JSONResponse:
-    return JSONResponse(audit_body(runtime.audits.get(audit_id), runtime.settings))
+    return JSONResponse(audit_body(runtime.audits.get(audit_id, kind=AUDIT), runtime.settings))
 
 
 @router.delete("/{audit_id}", status_code=204, summary="Delete an audit (needs its owner token)",
@@ -181,7 +183,7 @@ def get_audit(audit_id: str = AUDIT_ID, runtime: Runtime = Depends(get_runtime))
 def delete_audit(audit_id: str = AUDIT_ID,
                  x_owner_token: str | None = Header(None, description="The owner_token returned on creation"),
                  runtime: Runtime = Depends(get_runtime)) -> Response:
-    runtime.audits.delete(audit_id, x_owner_token)
+    runtime.audits.delete(audit_id, x_owner_token, kind=AUDIT)
     return Response(status_code=204)
 
 
@@ -190,11 +192,10 @@ def delete_audit(audit_id: str = AUDIT_ID,
             responses={200: {"content": {"text/csv": {"example": "time,time_label,value,long_term_trend,residual,"
                                                                   "in_reference,in_window\n1970.5,1970,-0.31,..."}}}})
 def audit_data(audit_id: str = AUDIT_ID, runtime: Runtime = Depends(get_runtime)) -> Response:
-    record = runtime.audits.get(audit_id)
-    return Response(audit_data_csv(record.input_document, record.result_document), media_type="text/csv; charset=utf-8",
-                    headers={"Content-Disposition": f'attachment; filename="trendaudit-{record.id}.csv"'})
+    record = runtime.audits.get(audit_id, kind=AUDIT)
+    return csv_download(audit_data_csv(record.input_document, record.result_document), record.id)
 
 
 @pages.get("/audits/{audit_id}", response_class=HTMLResponse, summary="The audit's report page")
 def audit_report(audit_id: str = AUDIT_ID, runtime: Runtime = Depends(get_runtime)) -> HTMLResponse:
-    return HTMLResponse(render_report(audit_body(runtime.audits.get(audit_id), runtime.settings)))
+    return HTMLResponse(render_report(audit_body(runtime.audits.get(audit_id, kind=AUDIT), runtime.settings)))

@@ -1,4 +1,5 @@
-"""The audited data as CSV: every point, the long-term trend line over the reference period, and residuals.
+"""Stored results as CSV: an audit's every point with the long-term trend line over the reference period and
+residuals; a correlation audit's response and driver with the fitted response.
 
 Text cells that a spreadsheet would run as a formula (starting with =, +, -, @, tab or carriage return)
 get a leading apostrophe, as the OWASP "CSV Injection" guidance advises; numbers stay numbers, so a
@@ -12,6 +13,8 @@ import io
 import re
 from typing import Any
 
+from fastapi.responses import Response
+
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 PLAIN_NUMBER = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?")
 COLUMNS = ("time", "time_label", "value", "long_term_trend", "residual", "in_reference", "in_window")
@@ -22,6 +25,11 @@ def neutralise(text: str) -> str:
     if text.startswith(FORMULA_STARTS) and not PLAIN_NUMBER.fullmatch(text):
         return "'" + text
     return text
+
+
+def csv_download(text: str, record_id: str) -> Response:
+    return Response(text, media_type="text/csv; charset=utf-8",
+                    headers={"Content-Disposition": f'attachment; filename="trendaudit-{record_id}.csv"'})
 
 
 def _number(value: float | None) -> str:
@@ -54,3 +62,29 @@ def _flag(start: float | None, end: float | None, time: float) -> str:
     if start is None or end is None:
         return ""
     return "1" if start <= time <= end else "0"
+
+
+CORRELATION_COLUMNS = ("time", "time_label", "response", "driver", "driver_transformed", "fitted_response", "residual",
+                       "shared")
+
+
+def correlation_data_csv(input_document: dict[str, Any], result_document: dict[str, Any]) -> str:
+    """One row per response time (the grid the driver was matched to): the response as given, the driver matched
+    to it and transformed, the fitted response and the residual where both exist. Nothing is recomputed."""
+    response = input_document["response"]
+    times, values = response["time"], response["value"]
+    labels = response.get("time_labels") or [""] * len(times)
+    curves = result_document.get("curves") or {}
+    shared = {time: (driver, transformed, fitted) for time, driver, transformed, fitted in zip(
+        curves.get("time") or [], curves.get("driver") or [], curves.get("driver_transformed") or [],
+        curves.get("fitted") or [])}
+
+    out = io.StringIO()
+    writer = csv.writer(out, lineterminator="\r\n")  # RFC 4180 line ends
+    writer.writerow(CORRELATION_COLUMNS)
+    for time, label, value in zip(times, labels, values):
+        driver, transformed, fitted = shared.get(time, (None, None, None))
+        residual = value - fitted if fitted is not None else None
+        writer.writerow([_number(time), neutralise(str(label)), _number(value), _number(driver), _number(transformed),
+                         _number(fitted), _number(residual), "1" if time in shared else "0"])
+    return out.getvalue()

@@ -72,9 +72,14 @@ def problem_response(status: int, body: dict[str, Any], headers: dict[str, str] 
 
 
 def _validation_where(loc: tuple[Any, ...]) -> str:
-    # ("body", "claim", "start") -> "claim.start"; drop the transport part of the location.
-    parts = [str(p) for p in loc if p not in ("body", "query", "path", "header")]
-    return ".".join(parts) if parts else "request"
+    """("body", "covariates", 0, "name") -> "covariates[0].name": the transport part dropped, list positions
+    written as the domain errors write them."""
+    where = ""
+    for part in loc:
+        if part in ("body", "query", "path", "header"):
+            continue
+        where += f"[{part}]" if isinstance(part, int) else (f".{part}" if where else str(part))
+    return where or "request"
 
 
 def install_problem_handlers(app: FastAPI) -> None:

@@ -12,6 +12,8 @@ from typing import Any, Literal
 from pydantic import BaseModel, ConfigDict, Field
 
 from app.audit.claim import CLAIM_KINDS, NOISE_MODELS, RATE_UNITS
+from app.stats.adjust import LAG_RULES, MAX_COVARIATES
+from app.stats.correlate import TRANSFORMS
 
 TREND_METHODS = ("white", "ar1", "arma11", "gls_ar1", "hac")
 Cell = int | float | str | None  # exact types are kept, so the reader sees 1998 and "1998-03" as written
@@ -20,11 +22,28 @@ ClaimKind = Literal[CLAIM_KINDS]  # type: ignore[valid-type]
 AuditNoise = Literal[NOISE_MODELS]  # type: ignore[valid-type]
 RateUnit = Literal[tuple(RATE_UNITS)]  # type: ignore[valid-type]
 TrendMethod = Literal[TREND_METHODS]  # type: ignore[valid-type]
+LagRule = Literal[LAG_RULES]  # type: ignore[valid-type]
+Transform = Literal[TRANSFORMS]  # type: ignore[valid-type]
 
 # Invented demo data: a steady 0.18 per decade with a deterministic wiggle, annual 1970-2024.
 EXAMPLE_YEARS = list(range(1970, 2025))
 EXAMPLE_VALUES = [round(-0.3 + 0.018 * (y - 1970) + 0.09 * math.sin(1.7 * y) + 0.05 * math.cos(0.6 * y), 3)
                   for y in EXAMPLE_YEARS]
+
+# Invented demo data for the covariate example: an index that swings like an ENSO index (1968 on, so lags of
+# up to two years reach back before the series), and a series that follows it a year late on top of the trend.
+EXAMPLE_INDEX_YEARS = list(range(1968, 2025))
+EXAMPLE_INDEX = [round(math.sin(0.9 * y) + 0.5 * math.cos(2.3 * y), 3) for y in EXAMPLE_INDEX_YEARS]
+EXAMPLE_ADJUSTABLE_VALUES = [round(v + 0.08 * math.sin(0.9 * (y - 1)) + 0.04 * math.cos(2.3 * (y - 1)), 3)
+                             for y, v in zip(EXAMPLE_YEARS, EXAMPLE_VALUES)]
+
+# Invented demo data for the correlation example: a driver rising like CO2 in ppm, and a response that warms
+# 0.8 per doubling of it, with a deterministic year-to-year scatter and a slow swing (annual 1960-2024).
+EXAMPLE_DRIVER_YEARS = list(range(1960, 2025))
+EXAMPLE_DRIVER = [round(315.0 * math.exp(0.004 * (y - 1960) + 0.00001 * (y - 1960) ** 2), 2)
+                  for y in EXAMPLE_DRIVER_YEARS]
+EXAMPLE_RESPONSE = [round(0.8 * math.log2(c / 315.0) + 0.08 * ((y * 7919) % 13 - 6) / 6 + 0.05 * math.sin(0.9 * y), 3)
+                    for y, c in zip(EXAMPLE_DRIVER_YEARS, EXAMPLE_DRIVER)]
 
 
 class _Strict(BaseModel):
@@ -73,11 +92,27 @@ class SourceIn(_Strict):
     notes: str | None = None
 
 
+class CovariateIn(_Strict):
+    name: str = Field(min_length=1, description="What the factor is, e.g. 'ENSO index'; one name per covariate")
+    time: list[Cell] = Field(description="Times written like the series' own; start max_lag steps earlier to "
+                                         "use every point")
+    value: list[Cell] = Field(description="Numbers; null, '', 'NA' or 'NaN' when missing")
+    max_lag: int | None = Field(default=None, ge=0, description="Largest lag tried, in steps of the series (months "
+                                "for monthly data); default two years, at most a quarter of the record")
+
+
+COVARIATES_HELP = (f"Known factors to take out (up to {MAX_COVARIATES}): series = trend + each factor at its best "
+                   "lag + noise (Foster & Rahmstorf 2011). Read like the series, with the same ingest options "
+                   "except the anomaly base; on the series' time step.")
+
+
 class AuditRequest(_Strict):
     title: str = Field(default="", description="A name for the audit, shown on its report")
     series: SeriesIn
     claim: ClaimIn
     options: OptionsIn = Field(default_factory=OptionsIn)
+    covariates: list[CovariateIn] = Field(default_factory=list, description=COVARIATES_HELP + " The answer then "
+                                          "holds 'adjustment', with a full audit of the adjusted series.")
     source: SourceIn = Field(default_factory=SourceIn)
     ingest: IngestIn = Field(default_factory=IngestIn)
 
@@ -88,6 +123,14 @@ class AuditRequest(_Strict):
         "claim": {"start": 1998, "end": 2013, "kind": "pause"},
         "options": {"confidence": 0.95, "noise": "ar1", "simulations": 2000, "seed": 12345},
         "source": {"name": "Invented demo data", "notes": "Worked example for the API documentation"},
+    }, {
+        "title": "The same claim once an (invented) ENSO-like index is taken out",
+        "series": {"time": EXAMPLE_YEARS, "value": EXAMPLE_ADJUSTABLE_VALUES, "label": "Annual temperature anomaly",
+                   "units": "°C"},
+        "claim": {"start": 1998, "end": 2013, "kind": "pause"},
+        "options": {"simulations": 2000, "seed": 12345},
+        "covariates": [{"name": "ENSO-like index", "time": EXAMPLE_INDEX_YEARS, "value": EXAMPLE_INDEX,
+                        "max_lag": 2}],
     }]})
 
 
@@ -110,6 +153,11 @@ class MultipartAuditForm(BaseModel):
     rate_unit: RateUnit | None = None
     decimal_comma: bool | None = None
     missing_sentinels: str | None = Field(default=None, description="Comma-separated, e.g. '-999,-99.99'")
+    covariate_columns: str | None = Field(
+        default=None, description="Other numeric columns of the file to adjust for, comma-separated (or the field "
+                                  "repeated); the answer then holds 'adjustment'")
+    covariate_max_lag: int | None = Field(default=None, description="Largest lag tried for every covariate, in "
+                                                                    "steps of the series; default two years")
     source_name: str | None = None
     source_url: str | None = None
     source_notes: str | None = None
@@ -141,6 +189,10 @@ class AuditOut(BaseModel):
     segments: dict[str, Any]
     detectability: dict[str, Any]
     inputs: dict[str, Any]
+    adjustment: dict[str, Any] | None = Field(
+        default=None, description="With covariates: each factor's coefficient, range, lag and share of the "
+                                  "variance, the residual spread before and after, and 'audit', the adjusted "
+                                  "series' own audit in this same shape; null without covariates")
     software_version: str
     seed: int
 
@@ -160,16 +212,27 @@ class AuditPage(BaseModel):
     next_cursor: str | None = Field(description="Pass as ?cursor= for the next page; null on the last page")
 
 
+class CorrelationPage(AuditPage):
+    """The same shape as the audits' list; each summary holds the verdict, the series' labels and the window."""
+
+
 class TrendRequest(_Strict):
     series: SeriesIn
     start: float | None = Field(default=None, description="First time of the window (decimal year)")
     end: float | None = Field(default=None, description="Last time of the window (decimal year)")
     noise: TrendMethod = Field(default="ar1", description="Noise model behind 'ci' and 'p_value'")
     confidence: float = Field(default=0.95, gt=0.5, lt=1.0)
+    covariates: list[CovariateIn] = Field(default_factory=list, description=COVARIATES_HELP + " Fitted over the "
+                                          "window; the answer then holds 'adjustment'.")
+    lag_rule: LagRule = Field(default="ls", description="How each covariate's lag is chosen: 'ls' the best "
+                              "least-squares fit, 'aic' the best AR(1)-error likelihood")
 
     model_config = ConfigDict(extra="forbid", json_schema_extra={"examples": [{
         "series": {"time": EXAMPLE_YEARS, "value": EXAMPLE_VALUES},
         "start": 1980, "end": 2024, "noise": "ar1", "confidence": 0.95,
+    }, {
+        "series": {"time": EXAMPLE_YEARS, "value": EXAMPLE_ADJUSTABLE_VALUES},
+        "covariates": [{"name": "ENSO-like index", "time": EXAMPLE_INDEX_YEARS, "value": EXAMPLE_INDEX}],
     }]})
 
 
@@ -191,6 +254,30 @@ class MannKendallOut(BaseModel):
     sen_ci: list[float | None]
 
 
+class FactorOut(BaseModel):
+    name: str
+    coefficient: float | None = Field(description="Series units per covariate unit")
+    ci: list[float | None] = Field(description="[lo, hi], allowing for the residuals' autocorrelation")
+    stderr: float | None
+    p_value: float | None
+    lag: int = Field(description="Chosen lag, in steps of the series")
+    lag_years: float
+    variance_share: float | None = Field(description="Variance of the factor's contribution over the series'")
+
+
+class TrendAdjustmentOut(BaseModel):
+    factors: list[FactorOut]
+    residual_sd_raw: float | None = Field(description="Spread about a straight line, on the points used")
+    residual_sd_adjusted: float | None = Field(description="Spread about trend plus factors")
+    trend_slope: float | None = Field(description="Per year, with the factors in the model")
+    trend_ci: list[float | None]
+    trend_p_value: float | None
+    n_used: int
+    dropped_times: list[float] = Field(description="Window times without every covariate at every lag tried")
+    lag_rule: str
+    noise: str = Field(description="Noise model of the ranges ('ar1' stands in for 'gls_ar1' and 'hac')")
+
+
 class TrendOut(BaseModel):
     slope: float | None = Field(description="OLS slope, value units per year")
     ci: list[float | None] = Field(description="[lo, hi] under the chosen noise model")
@@ -207,3 +294,59 @@ class TrendOut(BaseModel):
     units: str = "per year"
     methods: list[MethodOut]
     mann_kendall: MannKendallOut
+    adjustment: TrendAdjustmentOut | None = Field(default=None, description="With covariates; else null")
+
+
+class CorrelationOptionsIn(_Strict):
+    simulations: int | None = Field(default=None, description="Simulated series in the null")
+    seed: int | None = Field(default=None, description="Seed; the audit draws and records one when absent")
+    confidence: float | None = Field(default=None, description="Confidence level of the ranges and the tests")
+    noise: AuditNoise | None = Field(default=None, description="Noise model of the null and the slope's range")
+
+
+class CorrelationRequest(_Strict):
+    title: str = Field(default="", description="A name for the audit, shown on its report")
+    driver: SeriesIn = Field(description="What is thought to move the response, e.g. CO2 in ppm")
+    response: SeriesIn = Field(description="What moves; its times are the grid the driver is matched to")
+    window_years: float = Field(default=15.0, description="Length of the rolling windows, in years")
+    transform: Transform = Field(default="none", description="How the response follows the driver: 'log' "
+                                 "(slope per doubling), 'cumulative' (a running total, e.g. of emissions)")
+    options: CorrelationOptionsIn = Field(default_factory=CorrelationOptionsIn)
+    source: SourceIn = Field(default_factory=SourceIn)
+
+    model_config = ConfigDict(extra="forbid", json_schema_extra={"examples": [{
+        "title": "The (invented) province warmed while its CO2 rose: do weak 15-year windows break the link?",
+        "driver": {"time": EXAMPLE_DRIVER_YEARS, "value": EXAMPLE_DRIVER, "label": "CO2", "units": "ppm"},
+        "response": {"time": EXAMPLE_DRIVER_YEARS, "value": EXAMPLE_RESPONSE, "label": "Temperature anomaly",
+                     "units": "°C"},
+        "window_years": 15, "transform": "log",
+        "options": {"simulations": 2000, "seed": 12345, "confidence": 0.95},
+        "source": {"name": "Invented demo data", "notes": "Worked example for the API documentation"},
+    }]})
+
+
+class CorrelationOut(BaseModel):
+    """The stored correlation audit: its document plus where it lives. Only a create answer holds owner_token."""
+
+    model_config = ConfigDict(extra="allow")
+    id: str
+    kind: str
+    title: str
+    created_at: str = Field(description="UTC, ISO 8601")
+    url: str
+    report_url: str
+    data_url: str
+    owner_token: str | None = Field(default=None, description="Shown once, on creation: keep it to delete the audit")
+    verdict: VerdictOut
+    r_levels: float | None = Field(description="Correlation of the levels over the shared times")
+    r_detrended: float | None = Field(description="... of the series with their own straight lines taken out")
+    r_differences: float | None = Field(description="... of step-to-step changes")
+    slope: float | None = Field(description="Response per unit of the (transformed) driver, full record")
+    slope_ci: list[float | None]
+    per_doubling: dict[str, Any] | None = Field(description="With 'log': slope times ln 2, and its range")
+    rolling: dict[str, Any] = Field(description="window_years, starts, r, share_below_half, ...")
+    null: dict[str, Any] = Field(description="share_below_half, probability_min_r, ... under the simulated null")
+    warnings: list[str]
+    inputs: dict[str, Any]
+    software_version: str
+    seed: int

@@ -10,13 +10,15 @@ from __future__ import annotations
 
 import dataclasses
 import hashlib
+import re
 from dataclasses import dataclass
-from typing import Any
-
-import numpy as np
+from typing import Any, Callable, Sequence
 
 from app import __version__
+from app.api.covariates import (FORM_COVARIATE_FIELDS, CovariateSeries, check_lag_cells, covariate_payload,
+                                covariates_from_json, covariates_from_table)
 from app.api.limits import check_string_lengths
+from app.api.payloads import series_from_payload, series_payload  # noqa: F401  (the desk and tests use them here)
 from app.api.schemas import AuditRequest
 from app.audit import AuditOptions, Claim, audit_document, run_audit
 from app.audit.claim import check_claim, check_options
@@ -26,7 +28,7 @@ from app.ingest.cells import CellError
 from app.ingest.numbers import normalise
 from app.ingest.times import parse_time
 from app.settings import Settings
-from app.store import AuditRecord, AuditRepository, NewAudit
+from app.store import AUDIT, AuditRecord, AuditRepository, NewAudit, Page
 
 
 @dataclass(frozen=True)
@@ -36,27 +38,21 @@ class AuditJob:
     claim: Claim
     options: AuditOptions
     input_document: dict[str, Any]  # everything needed to run the same audit again
+    covariates: tuple[CovariateSeries, ...] = ()
+    # (pattern, field): errors the computation raises about a field matching the pattern name this field instead
+    field_names: tuple[tuple[str, str], ...] = ()
 
 
-def series_payload(series: Series) -> dict[str, Any]:
-    """The series as audited, JSON-ready; ``series_from_payload`` reads it back exactly."""
-    return {"time": [float(t) for t in series.time], "value": [float(v) for v in series.value],
-            "time_labels": list(series.time_labels), "sampling": series.sampling, "label": series.label,
-            "units": series.units, "missing_times": list(series.missing_times), "notes": list(series.notes)}
-
-
-def series_from_payload(payload: dict[str, Any]) -> Series:
-    return Series(time=np.asarray(payload["time"], dtype=float), value=np.asarray(payload["value"], dtype=float),
-                  sampling=payload["sampling"], label=payload["label"], units=payload["units"],
-                  missing_times=tuple(payload["missing_times"]), time_labels=tuple(payload["time_labels"]),
-                  notes=tuple(payload["notes"]))
+def with_defaults(values: dict[str, Any], settings: Settings) -> dict[str, Any]:
+    """The request's options with the service's defaults for what was left out."""
+    given = {k: v for k, v in values.items() if v is not None}
+    return {"confidence": settings.default_confidence, "noise": settings.default_noise,
+            "simulations": settings.default_simulations, **given}
 
 
 def audit_options(values: dict[str, Any], settings: Settings) -> AuditOptions:
     """Options from the request, with the service's defaults for what was left out; checked."""
-    given = {k: v for k, v in values.items() if v is not None}
-    options = AuditOptions(**{"confidence": settings.default_confidence, "noise": settings.default_noise,
-                              "simulations": settings.default_simulations, **given})
+    options = AuditOptions(**with_defaults(values, settings))
     check_options(options, settings.max_simulations)
     return options
 
@@ -86,9 +82,11 @@ def default_title(series: Series, claim: Claim) -> str:
 
 
 def prepare_job(*, title: str, series: Series, claim: Claim, options: AuditOptions, source: dict[str, Any],
-                ingest: dict[str, Any], settings: Settings) -> AuditJob:
+                ingest: dict[str, Any], settings: Settings, covariates: Sequence[CovariateSeries] = (),
+                covariate_fields: Sequence[str] = (), field_names: tuple[tuple[str, str], ...] = ()) -> AuditJob:
     check_claim(claim)
     check_window_in_series(series, claim.start, claim.end)
+    check_lag_cells(series, covariates, covariate_fields or [f"covariates[{i}].max_lag" for i in range(len(covariates))])
     title = title.strip() or default_title(series, claim)
     check_string_lengths({"title": title}, settings.max_string_length)
     document = {
@@ -96,17 +94,27 @@ def prepare_job(*, title: str, series: Series, claim: Claim, options: AuditOptio
         "series": series_payload(series),
         "claim": dataclasses.asdict(claim),
         "options": dataclasses.asdict(options),
+        "covariates": [covariate_payload(c) for c in covariates],
         "source": source,
         "ingest": ingest,
     }
-    return AuditJob(title=title, series=series, claim=claim, options=options, input_document=document)
+    return AuditJob(title=title, series=series, claim=claim, options=options, input_document=document,
+                    covariates=tuple(covariates), field_names=field_names)
+
+
+def string_times(times: Sequence[Any], field: str) -> dict[str, str]:
+    """The times written as text, keyed by where they sit, for the length check."""
+    return {f"{field}[{i}]": t for i, t in enumerate(times) if isinstance(t, str)}
 
 
 def job_from_json(request: AuditRequest, settings: Settings) -> AuditJob:
+    covariate_texts = {}
+    for i, cov in enumerate(request.covariates):
+        covariate_texts.update({f"covariates[{i}].name": cov.name, **string_times(cov.time, f"covariates[{i}].time")})
     check_string_lengths({"title": request.title, "series.label": request.series.label,
                           "series.units": request.series.units, "source.name": request.source.name,
                           "source.url": request.source.url, "source.notes": request.source.notes,
-                          **{f"series.time[{i}]": t for i, t in enumerate(request.series.time) if isinstance(t, str)}},
+                          **string_times(request.series.time, "series.time"), **covariate_texts},
                          settings.max_string_length)
     ingest_values = request.ingest.model_dump()
     ingest_options = IngestOptions(
@@ -119,34 +127,47 @@ def job_from_json(request: AuditRequest, settings: Settings) -> AuditJob:
     series = series_from_json(request.series.model_dump(exclude_none=True), ingest_options, field="series")
     options = audit_options(request.options.model_dump(), settings)
     claim = make_claim(request.claim.start, request.claim.end, request.claim.kind)
+    covariates = covariates_from_json([c.model_dump() for c in request.covariates], ingest_options)
     return prepare_job(title=request.title, series=series, claim=claim, options=options,
                        source=request.source.model_dump(), settings=settings,
-                       ingest={"format": "json", "options": dataclasses.asdict(ingest_options)})
+                       ingest={"format": "json", "options": dataclasses.asdict(ingest_options)}, covariates=covariates)
 
 
 def job_from_csv(data: str | bytes, *, claim: Claim, options: AuditOptions, settings: Settings, title: str = "",
                  time_column: str | None = None, value_column: str | None = None, decimal_comma: bool = False,
                  missing_sentinels: tuple[float, ...] = (), source: dict[str, Any] | None = None,
-                 filename: str | None = None) -> AuditJob:
+                 filename: str | None = None, covariate_columns: Sequence[str] = (),
+                 covariate_max_lag: int | None = None) -> AuditJob:
+    """A CSV upload; ``covariate_columns`` names other numeric columns to adjust for (errors about them
+    point at the fields ``covariate_columns`` and ``covariate_max_lag``)."""
     source = source or {}
     check_string_lengths({"title": title, "time_column": time_column, "value_column": value_column,
-                          "filename": filename, **{f"source_{k}": v for k, v in source.items()}},
+                          "filename": filename, **{f"source_{k}": v for k, v in source.items()},
+                          **({"covariate_columns": max(covariate_columns, key=len)} if covariate_columns else {})},
                          settings.max_string_length)
     ingest_options = IngestOptions(time_column=time_column, value_column=value_column, decimal_comma=decimal_comma,
                                    missing_sentinels=missing_sentinels, max_points=settings.max_points)
     table = read_csv_text(data, ingest_options)
+    covariates = covariates_from_table(table, covariate_columns, covariate_max_lag)
     raw = data.encode("utf-8") if isinstance(data, str) else data
     return prepare_job(
         title=title, series=table.series, claim=claim, options=options, source=source, settings=settings,
         ingest={"format": "csv", "options": dataclasses.asdict(ingest_options), "filename": filename,
                 "file_sha256": hashlib.sha256(raw).hexdigest(), "delimiter": table.delimiter,
                 "columns": list(table.columns), "time_column": table.time_column,
-                "value_column": table.value_column, "month_column": table.month_column})
+                "value_column": table.value_column, "month_column": table.month_column,
+                "covariate_columns": list(covariate_columns)},
+        covariates=covariates, covariate_fields=["covariate_max_lag"] * len(covariates),
+        field_names=FORM_COVARIATE_FIELDS)
 
 
 def compute_document(job: AuditJob) -> dict[str, Any]:
     """The CPU-bound part: runs in the compute pool (or directly, from the CLI)."""
-    return audit_document(run_audit(job.series, job.claim, job.options))
+    try:
+        result = run_audit(job.series, job.claim, job.options, covariates=[c.covariate for c in job.covariates])
+    except InputError as error:
+        raise rename_fields(error, {}, job.field_names) from None
+    return audit_document(result)
 
 
 def store_audit(audits: AuditRepository, job: AuditJob, document: dict[str, Any]) -> tuple[AuditRecord, str]:
@@ -154,11 +175,12 @@ def store_audit(audits: AuditRepository, job: AuditJob, document: dict[str, Any]
     input_document = {**job.input_document, "options": {**job.input_document["options"], "seed": seed}}
     verdict = document.get("verdict") or {}
     summary = {"verdict": {"code": verdict.get("code"), "headline": verdict.get("headline")},
-               "claim": input_document["claim"], "n": job.series.n, "label": job.series.label}
+               "claim": input_document["claim"], "n": job.series.n, "label": job.series.label,
+               "covariates": [c.name for c in job.covariates]}
     return audits.create(NewAudit(
         title=job.title, input_document=input_document, result_document=document,
         input_sha256=(document.get("inputs") or {}).get("sha256") or job.series.sha256(), seed=seed,
-        software_version=document.get("software_version") or __version__, summary=summary))
+        software_version=document.get("software_version") or __version__, summary=summary, kind=AUDIT))
 
 
 def audit_links(audit_id: str, settings: Settings) -> dict[str, str]:
@@ -167,19 +189,40 @@ def audit_links(audit_id: str, settings: Settings) -> dict[str, str]:
             "data_url": f"{base}/api/v1/audits/{audit_id}/data.csv"}
 
 
-def audit_body(record: AuditRecord, settings: Settings, owner_token: str | None = None) -> dict[str, Any]:
-    """The answer for one audit: who and where first, then the result document as stored."""
+def utc_text(moment) -> str:
+    return moment.isoformat().replace("+00:00", "Z")
+
+
+def record_body(record: AuditRecord, links: dict[str, str], owner_token: str | None = None) -> dict[str, Any]:
+    """The answer for one stored record: who and where first, then the result document as stored."""
     head: dict[str, Any] = {"id": record.id, "kind": record.kind, "title": record.title,
-                            "created_at": record.created_at.isoformat().replace("+00:00", "Z"),
-                            **audit_links(record.id, settings)}
+                            "created_at": utc_text(record.created_at), **links}
     if owner_token is not None:
         head["owner_token"] = owner_token
     return {**head, **{k: v for k, v in record.result_document.items() if k not in head}}
 
 
-def rename_fields(error: InputError, names: dict[str, str]) -> InputError:
-    """Points an error at the form field the user filled in, when its JSON name differs."""
+def list_page(page: Page, links: Callable[[str, Settings], dict[str, str]], settings: Settings) -> dict[str, Any]:
+    """A page of stored records as the list endpoints answer it."""
+    items = [{"id": item.id, "kind": item.kind, "title": item.title, "created_at": utc_text(item.created_at),
+              "summary": item.summary,
+              **{k: v for k, v in links(item.id, settings).items() if k in ("url", "report_url")}}
+             for item in page.items]
+    return {"items": items, "next_cursor": page.next_cursor}
+
+
+def audit_body(record: AuditRecord, settings: Settings, owner_token: str | None = None) -> dict[str, Any]:
+    return record_body(record, audit_links(record.id, settings), owner_token)
+
+
+def rename_fields(error: InputError, names: dict[str, str],
+                  patterns: Sequence[tuple[str, str]] = ()) -> InputError:
+    """Points an error at the form field the user filled in, when its JSON name differs: an exact name in
+    ``names``, else the first (regular expression, field) pair in ``patterns`` that matches the whole name."""
     field = error.location.field
-    if field in names:
-        error.location = dataclasses.replace(error.location, field=names[field])
+    if field is None:
+        return error
+    new = names.get(field) or next((name for pattern, name in patterns if re.fullmatch(pattern, field)), None)
+    if new is not None:
+        error.location = dataclasses.replace(error.location, field=new)
     return error

@@ -1,4 +1,5 @@
-"""POST /api/v1/trend: one series' trend with its uncertainty under every noise model, side by side."""
+"""POST /api/v1/trend: one series' trend with its uncertainty under every noise model, side by side;
+with covariates, also the trend once known factors are taken out (the fit alone, no audit)."""
 
 from __future__ import annotations
 
@@ -7,6 +8,7 @@ from typing import Any
 
 from fastapi import APIRouter, Depends, Request
 
+from app.api.covariates import check_lag_cells, covariates_from_json
 from app.api.deps import get_runtime
 from app.api.runtime import Runtime
 from app.api.schemas import TrendOut, TrendRequest
@@ -16,7 +18,10 @@ from app.ingest import IngestOptions, series_from_json
 from app.ingest.series import Series
 from app.ingest.validate import check_enough_values, check_window_in_series
 from app.settings import Settings
+from app.stats.adjust import NOISE_KINDS, AdjustmentResult, fit_covariates
 from app.stats.trend import summarise_trend
+
+ADJUSTMENT_FALLBACK_NOISE = "ar1"  # the covariate fit's ranges know white, AR(1) and ARMA(1,1) noise only
 
 router = APIRouter(prefix="/api/v1", tags=["trend"])
 
@@ -37,10 +42,27 @@ def _window(series: Series, start: float | None, end: float | None) -> Series:
     return window
 
 
+def _adjustment(fit: AdjustmentResult, noise: str) -> dict[str, Any]:
+    return {"factors": [{"name": f.name, "coefficient": f.coefficient, "ci": list(f.ci), "stderr": f.stderr,
+                         "p_value": f.p_value, "lag": f.lag, "lag_years": f.lag_years,
+                         "variance_share": f.variance_share} for f in fit.factors],
+            "residual_sd_raw": fit.residual_sd_raw, "residual_sd_adjusted": fit.residual_sd_adjusted,
+            "trend_slope": fit.trend_slope, "trend_ci": list(fit.trend_ci), "trend_p_value": fit.trend_p_value,
+            "n_used": fit.n_used, "dropped_times": list(fit.dropped_times), "lag_rule": fit.lag_rule, "noise": noise}
+
+
 def compute_trend(body: TrendRequest, settings: Settings) -> dict[str, Any]:
-    series = series_from_json(body.series.model_dump(exclude_none=True), IngestOptions(max_points=settings.max_points),
-                              field="series")
+    reading = IngestOptions(max_points=settings.max_points)
+    series = series_from_json(body.series.model_dump(exclude_none=True), reading, field="series")
+    covariates = covariates_from_json([c.model_dump() for c in body.covariates], reading)
     window = _window(series, body.start, body.end)
+    adjustment = None
+    if covariates:
+        check_lag_cells(window, covariates, [f"covariates[{i}].max_lag" for i in range(len(covariates))])
+        noise = body.noise if body.noise in NOISE_KINDS else ADJUSTMENT_FALLBACK_NOISE
+        fit = fit_covariates(window.time, window.value, [c.covariate for c in covariates], window.points_per_year,
+                             noise_kind=noise, confidence=body.confidence, lag_rule=body.lag_rule)
+        adjustment = _adjustment(fit, noise)
     summary = summarise_trend(window.time, window.value, method=body.noise, confidence=body.confidence,
                               points_per_year=window.points_per_year)
     chosen = summary.chosen
@@ -55,6 +77,7 @@ def compute_trend(body: TrendRequest, settings: Settings) -> dict[str, Any]:
         "mann_kendall": {"p_value": summary.mann_kendall.p_value, "z": summary.mann_kendall.z,
                          "tau": summary.mann_kendall.tau, "trend": summary.mann_kendall.trend,
                          "sen_slope": summary.sen.slope, "sen_ci": list(summary.sen.ci)},
+        "adjustment": adjustment,
     })
 
 
@@ -63,5 +86,7 @@ def compute_trend(body: TrendRequest, settings: Settings) -> dict[str, Any]:
                         503: {"description": "Compute pool full: retry after the Retry-After seconds"}})
 async def trend(body: TrendRequest, request: Request, runtime: Runtime = Depends(get_runtime)) -> dict[str, Any]:
     """Slopes are per year. `ci` and `p_value` follow the chosen `noise` model (AR(1) by default);
-    `ci_white` is the naive white-noise range, for comparison."""
+    `ci_white` is the naive white-noise range, for comparison. With `covariates`, `adjustment` holds the
+    fit of trend plus lagged factors over the same window (each factor's coefficient, range, lag and share
+    of the variance; the trend with the factors in the model)."""
     return await runtime.pool.run(compute_trend, body, runtime.settings)

@@ -11,7 +11,7 @@ import pytest
 from app.api.service import series_from_payload
 from app.audit import AuditOptions, Claim, audit_document, run_audit
 
-from .conftest import TEST_SIMULATIONS, assert_problem, audit_body, csv_text, invented_series
+from .conftest import TEST_SIMULATIONS, assert_problem, audit_body, csv_text, invented_series, numbers_only
 
 HEADLINE_KEYS = {
     "verdict": {"code", "headline", "summary"},
@@ -24,11 +24,6 @@ HEADLINE_KEYS = {
     "detectability": {"years_to_detect"},
     "inputs": {"sha256", "n"},
 }
-VOLATILE = ("id", "created_at", "owner_token", "url", "report_url", "data_url")
-
-
-def numbers_only(body: dict) -> dict:
-    return {k: v for k, v in body.items() if k not in VOLATILE}
 
 
 @pytest.fixture

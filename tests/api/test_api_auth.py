@@ -7,6 +7,7 @@ import pytest
 from app.api.deps import key_matches
 
 from .conftest import assert_problem, audit_body
+from .test_api_correlations import correlation_request
 
 KEYS = "first-key-0123456789,second-key-abcdefghij"
 
@@ -60,6 +61,22 @@ def test_delete_needs_both_a_key_and_the_owner_token(keyed):
                    "X-Owner-Token")
     done = keyed.delete(f"/api/v1/audits/{created['id']}", headers={**owner, **bearer("first-key-0123456789")})
     assert done.status_code == 204
+
+
+def test_correlations_follow_the_same_rules(keyed):
+    key = bearer("first-key-0123456789")
+    assert_problem(keyed.post("/api/v1/correlations", json=correlation_request()), 401, "Authorization")
+    assert_problem(keyed.get("/api/v1/correlations", headers=bearer("wrong-key")), 403, "Authorization")
+    created = keyed.post("/api/v1/correlations", json=correlation_request(), headers=key)
+    assert created.status_code == 201, created.text
+    body = created.json()
+    assert keyed.get("/api/v1/correlations", headers=key).json()["items"][0]["id"] == body["id"]
+    # The link is the capability: no key to read it, its page or its data.
+    for path in (body["url"], body["report_url"], body["data_url"]):
+        assert keyed.get(path).status_code == 200, path
+    owner = {"X-Owner-Token": body["owner_token"]}
+    assert_problem(keyed.delete(body["url"], headers=owner), 401, "Authorization")
+    assert keyed.delete(body["url"], headers={**owner, **key}).status_code == 204
 
 
 def test_trend_samples_and_health_need_no_key(keyed):
