@@ -1,5 +1,6 @@
-"""Command line: ``trendaudit serve`` runs the web service; ``trendaudit audit FILE.csv`` audits a file
-through the same code path as the API (ingest, run_audit, audit_document), without a server or database.
+"""Command line: ``trendaudit serve`` runs the web service; ``trendaudit audit FILE.csv`` audits a file and
+``trendaudit correlate FILE.csv`` audits a driver-response pair of its columns, through the same code paths
+as the API (ingest, run_audit or run_correlation, the one serialiser), without a server or database.
 """
 
 from __future__ import annotations
@@ -16,9 +17,25 @@ from typing import Any, Sequence
 from app import __version__
 from app.audit.claim import CLAIM_KINDS, NOISE_MODELS
 from app.errors import InputError
+from app.stats.correlate import TRANSFORMS
 
 EXIT_INPUT_ERROR = 2  # the same code argparse uses for a bad command line
 log = logging.getLogger("trendaudit")
+# Errors name the request fields the API uses; on the command line they are these flags.
+FLAGS = {"options.simulations": "--simulations", "options.seed": "--seed", "options.noise": "--noise",
+         "options.confidence": "--confidence", "covariate_columns": "--covariates", "covariate_max_lag": "--max-lag",
+         "driver_column": "--driver", "response_column": "--response", "window_years": "--window-years",
+         "transform": "--transform", "title": "--title"}
+
+
+def _shared_options(command: argparse.ArgumentParser) -> None:
+    command.add_argument("--time-column", help="name of the time column (detected when absent)")
+    command.add_argument("--simulations", type=int, help="Monte Carlo simulations per test")
+    command.add_argument("--seed", type=int, help="random seed (drawn and printed when absent)")
+    command.add_argument("--noise", choices=NOISE_MODELS, help="noise model (default ar1)")
+    command.add_argument("--confidence", type=float, help="confidence level (default 0.95)")
+    command.add_argument("--title", default="", help="a name for the audit")
+    command.add_argument("--json", action="store_true", help="print the full result document as JSON")
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -38,14 +55,21 @@ def _parser() -> argparse.ArgumentParser:
                        "month, quarter or date placed mid-period like the data (2016-01)")
     audit.add_argument("--end", required=True, help="end of the claimed window, written like --start")
     audit.add_argument("--kind", choices=CLAIM_KINDS, default="pause", help="what the claim says (default pause)")
-    audit.add_argument("--time-column", help="name of the time column (detected when absent)")
     audit.add_argument("--value-column", help="name of the value column (detected when absent)")
-    audit.add_argument("--simulations", type=int, help="Monte Carlo simulations per test")
-    audit.add_argument("--seed", type=int, help="random seed (drawn and printed when absent)")
-    audit.add_argument("--noise", choices=NOISE_MODELS, help="noise model (default ar1)")
-    audit.add_argument("--confidence", type=float, help="confidence level (default 0.95)")
-    audit.add_argument("--title", default="", help="a name for the audit")
-    audit.add_argument("--json", action="store_true", help="print the full result document as JSON")
+    audit.add_argument("--covariates", default="", help="other numeric columns to take out first, comma-separated "
+                       "(an ENSO index, volcanic aerosol...); the adjusted series is audited too")
+    audit.add_argument("--max-lag", type=int, help="largest lag tried for each covariate, in steps of the series "
+                       "(default two years)")
+    _shared_options(audit)
+
+    correlate = commands.add_parser("correlate", help="audit a driver-response pair of columns of a CSV file")
+    correlate.add_argument("file", type=Path, help="CSV with a time column and the two value columns")
+    correlate.add_argument("--driver", required=True, help="the column thought to move the other (e.g. co2)")
+    correlate.add_argument("--response", required=True, help="the column that moves (e.g. temperature)")
+    correlate.add_argument("--window-years", type=float, default=15.0, help="rolling window length (default 15)")
+    correlate.add_argument("--transform", choices=TRANSFORMS, default="none",
+                           help="how the response follows the driver: log (per doubling) or cumulative")
+    _shared_options(correlate)
     return parser
 
 
@@ -53,6 +77,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     if args.command == "serve":
         return serve(args.host, args.port, args.workers)
+    if args.command == "correlate":
+        return correlate(args)
     return audit(args)
 
 
@@ -82,15 +108,37 @@ def _is_loopback(host: str) -> bool:
         return False
 
 
+def _read(path: Path) -> bytes | None:
+    try:
+        return path.read_bytes()
+    except OSError as error:
+        print(f"trendaudit: cannot read {path}: {error.strerror}", file=sys.stderr)
+        return None
+
+
+def _refuse(path: Path, error: InputError) -> int:
+    from app.api.service import rename_fields
+
+    print(f"trendaudit: {path}: {rename_fields(error, FLAGS).detail}", file=sys.stderr)
+    return EXIT_INPUT_ERROR
+
+
+def _print(title: str, document: dict[str, Any], as_json: bool, text) -> None:
+    if as_json:
+        json.dump({"title": title, **document}, sys.stdout, indent=2, allow_nan=False)
+        sys.stdout.write("\n")
+    else:
+        sys.stdout.write(text(title, document))
+
+
 def audit(args: argparse.Namespace) -> int:
+    from app.api.covariates import column_names
     from app.api.service import audit_options, compute_document, job_from_csv, make_claim
     from app.settings import Settings
 
     settings = Settings()
-    try:
-        data = args.file.read_bytes()
-    except OSError as error:
-        print(f"trendaudit: cannot read {args.file}: {error.strerror}", file=sys.stderr)
+    data = _read(args.file)
+    if data is None:
         return EXIT_INPUT_ERROR
     try:
         options = audit_options({"confidence": args.confidence, "noise": args.noise,
@@ -98,16 +146,35 @@ def audit(args: argparse.Namespace) -> int:
         claim = make_claim(args.start, args.end, args.kind, prefix="--")
         job = job_from_csv(data, claim=claim, options=options,
                            settings=settings, title=args.title, time_column=args.time_column,
-                           value_column=args.value_column, filename=args.file.name)
+                           value_column=args.value_column, filename=args.file.name,
+                           covariate_columns=column_names([args.covariates]), covariate_max_lag=args.max_lag)
         document = compute_document(job)
     except InputError as error:
-        print(f"trendaudit: {args.file}: {error.detail}", file=sys.stderr)
+        return _refuse(args.file, error)
+    _print(job.title, document, args.json, summary_text)
+    return 0
+
+
+def correlate(args: argparse.Namespace) -> int:
+    from app.api.correlation_service import (compute_correlation_document, correlation_job_from_csv,
+                                             correlation_options)
+    from app.settings import Settings
+
+    settings = Settings()
+    data = _read(args.file)
+    if data is None:
         return EXIT_INPUT_ERROR
-    if args.json:
-        json.dump({"title": job.title, **document}, sys.stdout, indent=2, allow_nan=False)
-        sys.stdout.write("\n")
-    else:
-        sys.stdout.write(summary_text(job.title, document))
+    try:
+        options = correlation_options(args.window_years, args.transform,
+                                      {"confidence": args.confidence, "noise": args.noise,
+                                       "simulations": args.simulations, "seed": args.seed}, settings)
+        job = correlation_job_from_csv(data, driver_column=args.driver, response_column=args.response,
+                                       options=options, settings=settings, title=args.title,
+                                       time_column=args.time_column, filename=args.file.name)
+        document = compute_correlation_document(job)
+    except InputError as error:
+        return _refuse(args.file, error)
+    _print(job.title, document, args.json, correlation_summary_text)
     return 0
 
 
@@ -141,8 +208,55 @@ def summary_text(title: str, doc: dict[str, Any]) -> str:
         f"Chance of a spell at least this extreme somewhere in the record: {_share(spell.get('probability'))}",
         f"Years of data needed to detect the long-term trend: {_number(detect.get('years_to_detect'))}",
         f"Breakpoints (continuous segmentation): {breaks}",
+        *_adjustment_lines(doc.get("adjustment"), r),
         f"Input: {doc['inputs']['n']} points, sha256 {doc['inputs']['sha256'][:16]}...; seed {doc['seed']}; "
         f"trendaudit {doc['software_version']}",
+    ]
+    return "\n".join(lines) + "\n"
+
+
+def _adjustment_lines(adjustment: dict[str, Any] | None, rate) -> list[str]:
+    if not adjustment:
+        return []
+    lines = ["", "Adjusted for " + ", ".join(f["name"] for f in adjustment["factors"]) + ":"]
+    for f in adjustment["factors"]:
+        lo, hi = (_number(c, "{:.3g}") for c in f["ci"])
+        lines.append(f"  {f['name']}: {_number(f['coefficient'], '{:.3g}')} per unit (range {lo} to {hi}), "
+                     f"lag {f['lag']} ({f['lag_years']:g} yr), {_share(f['variance_share'])} of the variance")
+    lines.append(f"  residual spread {_number(adjustment['residual_sd_raw'], '{:.3g}')} before, "
+                 f"{_number(adjustment['residual_sd_adjusted'], '{:.3g}')} after; trend with the factors "
+                 f"{rate(adjustment['trend_slope'], adjustment['trend_ci'])}")
+    verdict = adjustment["audit"]["verdict"]
+    lines.append(f"  Verdict on the adjusted series: {verdict['headline']}  [{verdict['code']}]")
+    return lines
+
+
+def correlation_summary_text(title: str, doc: dict[str, Any]) -> str:
+    """A plain-text summary of a correlation document, for a terminal."""
+    v, rolling, null, inputs = doc["verdict"], doc["rolling"], doc["null"], doc["inputs"]
+    lo, hi = (_number(c, "{:.3g}") for c in doc["slope_ci"])
+    lines = [
+        title, "",
+        f"Verdict: {v['headline']}  [{v['code']}]",
+        *textwrap.wrap(v["summary"], 88), "",
+        f"Driver {inputs['driver']['label'] or 'driver'}, response {inputs['response']['label'] or 'response'}: "
+        f"{inputs['n']} shared times, {inputs['start']:.1f} to {inputs['end']:.1f}; transform {doc['transform']}",
+        f"Full-record slope: {_number(doc['slope'], '{:.3g}')} (range {lo} to {hi})",
+    ]
+    if doc.get("per_doubling"):
+        d_lo, d_hi = (_number(c, "{:.3g}") for c in doc["per_doubling"]["ci"])
+        lines.append(f"Per doubling of the driver: {_number(doc['per_doubling']['value'], '{:.3g}')} "
+                     f"(range {d_lo} to {d_hi})")
+    band_lo, band_hi = (_share(s) for s in null["share_below_half_band"])
+    lines += [
+        f"Correlation of levels {_number(doc['r_levels'], '{:.2f}')}, detrended {_number(doc['r_detrended'], '{:.2f}')}, "
+        f"differences {_number(doc['r_differences'], '{:.2f}')}",
+        f"{rolling['window_years']:g}-year windows with r below {rolling['threshold']:g}: "
+        f"{_share(rolling['share_below_half'])} (the null's 90% band: {band_lo} to {band_hi})",
+        f"Chance under the null of a window as weak as the weakest: {_number(null['probability_min_r'], '{:.3g}')}",
+        *(line for warning in doc.get("warnings") or []
+          for line in textwrap.wrap("Caution: " + warning, 88, subsequent_indent="  ")),
+        f"Seed {doc['seed']}; trendaudit {doc['software_version']}",
     ]
     return "\n".join(lines) + "\n"
 
@@ -151,8 +265,8 @@ def _share(value: float | None) -> str:
     return "undetermined" if value is None else f"{100 * value:.1f}%"
 
 
-def _number(value: float | None) -> str:
-    return "undetermined" if value is None else f"{value:.0f}"
+def _number(value: float | None, form: str = "{:.0f}") -> str:
+    return "undetermined" if value is None else form.format(value)
 
 
 if __name__ == "__main__":

@@ -105,3 +105,121 @@ def test_python_dash_m_runs_the_cli(csv_file, tmp_path):
                           "--time-column", "when"], cwd=PROJECT_ROOT, capture_output=True, text=True, timeout=120)
     assert bad.returncode == EXIT_INPUT_ERROR
     assert "when" in bad.stderr and "Traceback" not in bad.stderr
+
+
+# --- covariates and the correlation audit ----------------------------------------------------------------------
+
+COVARIATE_ARGS = ["--start", "1998", "--end", "2013", "--simulations", "200", "--seed", "99", "--value-column",
+                  "anomaly"]
+
+
+@pytest.fixture
+def covariate_file(tmp_path):
+    from api.invented import planted_csv
+
+    path = tmp_path / "with_index.csv"
+    path.write_text(planted_csv(), encoding="utf-8")
+    return path
+
+
+@pytest.fixture
+def pair_file(tmp_path):
+    from api.invented import invented_pair
+
+    driver, response = invented_pair()
+    rows = "".join(f"{t},{d},{r}\n" for t, d, r in zip(driver["time"], driver["value"], response["value"]))
+    path = tmp_path / "pair.csv"
+    path.write_text("year,co2,temperature\n" + rows, encoding="utf-8")
+    return path
+
+
+def api_client(tmp_path):
+    return TestClient(create_app(Settings(database_url=f"sqlite:///{tmp_path / 'api.sqlite3'}", api_keys="")))
+
+
+def test_audit_with_covariates_prints_the_adjustment(covariate_file, capsys):
+    from api.invented import PLANTED_LAG
+
+    assert main(["audit", str(covariate_file), *COVARIATE_ARGS, "--covariates", "enso"]) == 0
+    out = capsys.readouterr().out
+    assert "Adjusted for enso:" in out and f"lag {PLANTED_LAG} " in out
+    assert "Verdict on the adjusted series:" in out
+
+
+def test_audit_with_covariates_matches_the_api_upload(covariate_file, capsys, tmp_path):
+    assert main(["audit", str(covariate_file), *COVARIATE_ARGS, "--covariates", "enso,volcanic", "--max-lag", "1",
+                 "--json"]) == 0
+    printed = json.loads(capsys.readouterr().out)
+    with api_client(tmp_path) as client:
+        response = client.post("/api/v1/audits", files={"file": ("with_index.csv", covariate_file.read_bytes(),
+                                                                 "text/csv")},
+                               data={"claim_start": "1998", "claim_end": "2013", "simulations": "200", "seed": "99",
+                                     "value_column": "anomaly", "covariate_columns": "enso,volcanic",
+                                     "covariate_max_lag": "1"})
+    assert response.status_code == 201, response.text
+    assert printed["adjustment"] == response.json()["adjustment"]
+    assert [f["name"] for f in printed["adjustment"]["factors"]] == ["enso", "volcanic"]
+
+
+@pytest.mark.parametrize("extra, message", [
+    (["--covariates", "nino"], "--covariates"),
+    (["--covariates", "anomaly"], "--covariates"),
+    (["--covariates", "enso", "--max-lag", "40"], "--max-lag"),
+])
+def test_bad_covariates_exit_2_naming_the_flag(covariate_file, capsys, extra, message):
+    assert main(["audit", str(covariate_file), *COVARIATE_ARGS, *extra]) == EXIT_INPUT_ERROR
+    captured = capsys.readouterr()
+    assert captured.out == "" and message in captured.err
+
+
+CORRELATE_ARGS = ["--driver", "co2", "--response", "temperature", "--transform", "log", "--simulations", "200",
+                  "--seed", "7"]
+
+
+def test_correlate_prints_a_readable_summary(pair_file, capsys):
+    assert main(["correlate", str(pair_file), *CORRELATE_ARGS]) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("temperature and co2: 15-year windows\n")
+    assert "Verdict:" in out and "Per doubling of the driver:" in out and "15-year windows with r below 0.5" in out
+    assert "Caution: Both co2 and temperature trend" in out
+    assert "Seed 7" in out and f"trendaudit {__version__}" in out
+
+
+def test_correlate_json_matches_the_api_for_the_same_series_and_seed(pair_file, capsys, tmp_path):
+    from api.invented import invented_pair
+
+    assert main(["correlate", str(pair_file), *CORRELATE_ARGS, "--window-years", "12", "--json"]) == 0
+    printed = json.loads(capsys.readouterr().out)
+    driver, response = invented_pair()
+    body = {"driver": {**driver, "label": "co2", "units": None}, "response": {**response, "label": "temperature",
+                                                                               "units": None},
+            "window_years": 12, "transform": "log", "options": {"simulations": 200, "seed": 7}}
+    with api_client(tmp_path) as client:
+        answer = client.post("/api/v1/correlations", json=body)
+    assert answer.status_code == 201, answer.text
+    from_api = answer.json()
+    for key in ("verdict", "r_levels", "r_detrended", "r_differences", "slope", "slope_ci", "per_doubling", "rolling",
+                "null", "warnings", "seed", "curves"):
+        assert printed[key] == from_api[key], key
+    assert printed["inputs"]["driver"]["sha256"] == from_api["inputs"]["driver"]["sha256"]
+
+
+@pytest.mark.parametrize("extra, message", [
+    (["--driver", "co3"], "--driver"),
+    (["--driver", "temperature"], "--driver"),
+    (["--driver", "year"], "time column"),
+    (["--response", "temp"], "temp"),
+    (["--window-years", "80"], "--window-years"),
+    (["--simulations", "5"], "--simulations"),
+])
+def test_correlate_input_errors_exit_2_with_a_clear_message(pair_file, capsys, extra, message):
+    assert main(["correlate", str(pair_file), *CORRELATE_ARGS, *extra]) == EXIT_INPUT_ERROR
+    captured = capsys.readouterr()
+    assert captured.out == "" and message in captured.err and str(pair_file) in captured.err
+
+
+def test_correlate_needs_both_columns(pair_file, capsys):
+    with pytest.raises(SystemExit) as exit_info:
+        main(["correlate", str(pair_file), "--driver", "co2"])
+    assert exit_info.value.code == EXIT_INPUT_ERROR
+    assert "--response" in capsys.readouterr().err
