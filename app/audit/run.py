@@ -128,6 +128,8 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
     t, y = series.time, series.value
     in_window = _window_mask(series, claim)
     min_points = max(MIN_POINTS_BEFORE_WINDOW, int(round(options.min_segment_years * ppy)))
+    # The covariate fit is cheap and the likeliest to refuse bad input: do it before the expensive work.
+    covariate_fit = _fit_covariates(series, options, covariates)
 
     segmentation = segment_continuous(t, y, max_breaks=options.max_breaks, min_size_years=options.min_segment_years,
                                       points_per_year=ppy, confidence=options.confidence, rng=rng["segments"])
@@ -187,17 +189,23 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
         sensitivity=sensitivity, endpoints=endpoints, years_to_detect=ytd, window_power=window_power,
         detect_curve=detect_curve, window_mann_kendall=mann_kendall(yw, alpha=alpha),
         window_sen=sen_slope(tw, yw, confidence=options.confidence), robustness=robustness, whole_record=whole,
-        verdict=verdict, verdict_inputs=inputs, adjustment=_adjust(series, claim, options, covariates),
+        verdict=verdict, verdict_inputs=inputs, adjustment=_adjust(series, claim, options, covariates, covariate_fit),
         elapsed_seconds=_time.perf_counter() - started,
     )
 
 
-def _adjust(series: Series, claim: Claim, options: AuditOptions, covariates: Sequence[Covariate]) -> Adjustment | None:
-    """Take the known short-term factors out (Foster & Rahmstorf 2011) and audit what is left."""
+def _fit_covariates(series: Series, options: AuditOptions, covariates: Sequence[Covariate]):
     if not covariates:
         return None
-    fit = fit_covariates(series.time, series.value, covariates, series.points_per_year, noise_kind=options.noise,
-                         confidence=options.confidence)
+    return fit_covariates(series.time, series.value, covariates, series.points_per_year, noise_kind=options.noise,
+                          confidence=options.confidence)
+
+
+def _adjust(series: Series, claim: Claim, options: AuditOptions, covariates: Sequence[Covariate],
+            fit) -> Adjustment | None:
+    """Take the known short-term factors out (Foster & Rahmstorf 2011) and audit what is left."""
+    if fit is None:
+        return None
     adjusted = Series(time=fit.time, value=fit.adjusted, sampling=series.sampling,
                       label=f"{series.label} (adjusted)".strip(), units=series.units,
                       notes=series.notes + ("adjusted for " + ", ".join(c.name for c in covariates),))
