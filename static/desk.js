@@ -29,8 +29,9 @@
 
   // A page that shows an input problem moves focus to it, so keyboard and screen-reader users hear it first.
   document.addEventListener("DOMContentLoaded", function () {
-    var problem = document.getElementById("problem");
+    var problem = document.getElementById("problem") || document.getElementById("created");
     if (problem) problem.focus();
+    enableCopyButtons();
     var permalink = document.getElementById("permalink-field");
     if (permalink && permalink.value.charAt(0) === "/") {
       // Without a configured public address the server can only give a path; the browser knows the rest,
@@ -43,6 +44,48 @@
       permalink.addEventListener("focus", function () { permalink.select(); });
     }
   });
+
+  // A file over the service's limit is said at once, before a long upload ends in a refusal.
+  document.addEventListener("change", function (event) {
+    var input = event.target;
+    if (!(input instanceof HTMLInputElement) || input.type !== "file" || !input.hasAttribute("data-max-bytes")) return;
+    var limit = Number(input.getAttribute("data-max-bytes"));
+    var status = document.querySelector("[data-file-size-status]");
+    var file = input.files && input.files[0];
+    var tooLarge = Boolean(file && limit && file.size > limit);
+    input.setCustomValidity(tooLarge ? "This file is larger than the service accepts." : "");
+    if (tooLarge) input.setAttribute("aria-invalid", "true"); else input.removeAttribute("aria-invalid");
+    if (status) {
+      status.textContent = tooLarge ? "This file is " + (file.size / 1048576).toFixed(1) + " MB; the limit is " +
+        (limit / 1048576).toFixed(1) + " MB. Cut it to the years that matter, or use monthly or annual values." : "";
+    }
+  });
+
+  // "Copy" next to a read-only field (the owner token): shown only when a script can do the copying.
+  function enableCopyButtons() {
+    var buttons = document.querySelectorAll("button[data-copy]");
+    for (var i = 0; i < buttons.length; i++) {
+      var button = buttons[i];
+      var field = document.getElementById(button.getAttribute("data-copy"));
+      if (!field) continue;
+      button.hidden = false;
+      button.addEventListener("click", copier(field, button.parentNode.querySelector("[data-copy-status]")));
+    }
+  }
+
+  function copier(field, status) {
+    return function () {
+      field.focus();
+      field.select();
+      var say = function (text) { if (status) status.textContent = text; };
+      if (navigator.clipboard && window.isSecureContext) {
+        navigator.clipboard.writeText(field.value).then(function () { say("Copied."); },
+          function () { say("Select the token and copy it yourself."); });
+      } else {
+        say(document.execCommand && document.execCommand("copy") ? "Copied." : "Select the token and copy it yourself.");
+      }
+    };
+  }
 
   // Back-forward cache: a page restored after submitting must not stay disabled.
   window.addEventListener("pageshow", function (event) {

@@ -23,7 +23,7 @@ from matplotlib.ticker import PercentFormatter
 
 from app.report import palette
 from app.report.figures import lay_out, new_figure, styled
-from app.report.numbers import Rate, format_p, format_percent, format_years, is_number, time_of
+from app.report.numbers import Rate, format_percent, format_years, is_number, time_of
 
 MAX_CELL_TICKS = 7
 GAP_FACTOR = 1.5  # a step this many times the usual one means values are missing between

@@ -86,6 +86,7 @@ class Links:
     permalink: str
     json: str
     csv: str
+    delete: str  # the desk's form target for deleting with the owner token
 
 
 @dataclass(frozen=True)
@@ -301,6 +302,6 @@ def report_context(*, audit_id: str, title: str, created_at: Any, document: dict
         provenance=_provenance(audit_id, title, doc, source_view, created),
         ingest_notes=tuple(_get(doc, "inputs", "notes", default=())),
         links=Links(permalink=permalink or f"{base}/audits/{audit_id}", json=f"/api/v1/audits/{audit_id}",
-                    csv=f"/api/v1/audits/{audit_id}/data.csv"),
+                    csv=f"/api/v1/audits/{audit_id}/data.csv", delete=f"/audits/{audit_id}/delete"),
         created_at=created,
     )

@@ -216,5 +216,6 @@ def correlation_context(*, record_id: str, title: str, created_at: Any, document
         simulations=f"{int((doc.get('null') or {}).get('n_simulations') or 0):,}", noise_text=_noise_text(doc),
         confidence=_conf(doc), source=source_view, provenance=_provenance(record_id, title, doc, source_view, created),
         links=Links(permalink=permalink or f"{base}/correlations/{record_id}",
-                    json=f"/api/v1/correlations/{record_id}", csv=f"/api/v1/correlations/{record_id}/data.csv"),
+                    json=f"/api/v1/correlations/{record_id}", csv=f"/api/v1/correlations/{record_id}/data.csv",
+                    delete=f"/correlations/{record_id}/delete"),
         created_at=created)

@@ -70,6 +70,15 @@ def stored_result(stored: Any) -> StoredResult:
     raise TypeError("a report needs a stored record or the API's body for one (a mapping with 'id')")
 
 
+@dataclass(frozen=True)
+class OwnerNotice:
+    """Shown once, on the page the browser lands on after creating a record: the token that can delete it."""
+
+    token: str
+    noun: str  # "audit", "driver-and-response audit"
+    api_url: str  # the record's API address, for deleting it from a script
+
+
 def report_parts(audit: Any, *, source: Mapping[str, Any] | None = None,
                  base_url: str = "") -> tuple[ReportContext, tuple[ChartView, ...]]:
     stored = stored_result(audit)
@@ -79,7 +88,8 @@ def report_parts(audit: Any, *, source: Mapping[str, Any] | None = None,
     return context, chart_views(stored.id, stored.document)
 
 
-def report_values(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "") -> dict[str, Any]:
+def report_values(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
+                  owner: OwnerNotice | None = None) -> dict[str, Any]:
     """Everything report.html renders: the context, the adjustment when there is one, the charts in page order."""
     context, charts = report_parts(audit, source=source, base_url=base_url)
     by_name = {chart.name: chart for chart in charts}
@@ -89,26 +99,29 @@ def report_values(audit: Any, *, source: Mapping[str, Any] | None = None, base_u
     return {"report": context, "adjustment": adjustment_view(stored_result(audit).document),
             "adjusted_chart": adjusted_chart, "evidence_charts": evidence, "charts": in_page_order,
             "chart_numbers": {chart.name: number for number, chart in enumerate(in_page_order, start=1)},
-            "noindex": True, "page_title": f"{context.title} - Trend Audit"}
+            "noindex": True, "page_title": f"{context.title} - Trend Audit", "owner": owner}
 
 
-def render_report(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "") -> str:
-    """The report page for one stored audit, as a complete HTML document."""
-    return render_page("report.html", **report_values(audit, source=source, base_url=base_url))
+def render_report(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
+                  owner: OwnerNotice | None = None) -> str:
+    """The report page for one stored audit, as a complete HTML document; with ``owner``, the page just after
+    creating it, which shows the owner token once."""
+    return render_page("report.html", **report_values(audit, source=source, base_url=base_url, owner=owner))
 
 
-def correlation_values(correlation: Any, *, source: Mapping[str, Any] | None = None,
-                       base_url: str = "") -> dict[str, Any]:
+def correlation_values(correlation: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
+                       owner: OwnerNotice | None = None) -> dict[str, Any]:
     stored = stored_result(correlation)
     context = correlation_context(record_id=stored.id, title=stored.title, created_at=stored.created_at,
                                   document=stored.document, source=dict(source or stored.source or {}),
                                   base_url=base_url, permalink=stored.report_url)
     charts = chart_views(stored.id, stored.document, CORRELATION_CHARTS)
     return {"report": context, "charts": charts, "noindex": True, "page_title": f"{context.title} - Trend Audit",
-            "chart_numbers": {chart.name: number for number, chart in enumerate(charts, start=1)}}
+            "chart_numbers": {chart.name: number for number, chart in enumerate(charts, start=1)}, "owner": owner}
 
 
-def render_correlation_report(correlation: Any, *, source: Mapping[str, Any] | None = None,
-                              base_url: str = "") -> str:
+def render_correlation_report(correlation: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
+                              owner: OwnerNotice | None = None) -> str:
     """The report page for one stored driver-response correlation audit, from its record or the API's body."""
-    return render_page("correlation.html", **correlation_values(correlation, source=source, base_url=base_url))
+    return render_page("correlation.html", **correlation_values(correlation, source=source, base_url=base_url,
+                                                                owner=owner))

@@ -13,14 +13,20 @@ from typing import Any
 from starlette.datastructures import FormData, UploadFile
 
 from app.api.audits import _number as form_number
+from app.api.covariates import column_names
 from app.audit.claim import CLAIM_KINDS, NOISE_MODELS, RATE_UNITS, AuditOptions
 from app.errors import InputError, Location
+from app.stats.correlate import TRANSFORMS
 from app.settings import Settings
 
 TEXT_FIELDS = ("table", "sample", "title", "label", "units", "time_column", "value_column", "claim_start",
                "claim_end", "claim_kind", "reference_start", "reference_end", "confidence", "noise", "simulations",
-               "seed", "rate_unit", "missing_sentinels", "source_name", "source_url", "source_notes")
+               "seed", "rate_unit", "missing_sentinels", "source_name", "source_url", "source_notes",
+               "covariate_max_lag", "check", "driver_column", "driver_label", "driver_units", "window_years",
+               "transform")
 CONFIDENCE_CHOICES = ("0.9", "0.95", "0.99")
+TREND, LINK = "trend", "link"  # what the desk checks: a claim about one series' trend, or a driver and a response
+DEFAULT_WINDOW_YEARS = "15"
 
 
 @dataclass(frozen=True)
@@ -47,6 +53,18 @@ class DeskForm:
     source_name: str = ""
     source_url: str = ""
     source_notes: str = ""
+    covariate_columns: tuple[str, ...] = ()  # other columns to adjust the series for
+    covariate_max_lag: str = ""
+    check: str = TREND
+    driver_column: str = ""
+    driver_label: str = ""
+    driver_units: str = ""
+    window_years: str = ""
+    transform: str = ""
+
+    @property
+    def checks_link(self) -> bool:
+        return self.check == LINK
 
     def source(self) -> dict[str, str | None]:
         return {"name": self.source_name.strip() or None, "url": self.source_url.strip() or None,
@@ -70,6 +88,17 @@ class DeskForm:
         }
         return values
 
+    def covariate_lag(self) -> int | None:
+        return _number(self.covariate_max_lag, "covariate_max_lag", int)
+
+    def correlation_values(self) -> tuple[float, str, dict[str, Any]]:
+        """The window, the transform and the options of a driver-response check; empty fields take the defaults."""
+        window = _number(self.window_years or DEFAULT_WINDOW_YEARS, "window_years", float)
+        options = {"confidence": _number(self.confidence, "confidence", float),
+                   "simulations": _number(self.simulations, "simulations", int),
+                   "seed": _number(self.seed, "seed", int), "noise": self.noise.strip() or None}
+        return window, self.transform.strip() or "none", options
+
     def reference_texts(self) -> tuple[str, str]:
         return self.reference_start.strip(), self.reference_end.strip()
 
@@ -89,6 +118,11 @@ async def read_form(form: FormData, max_upload_bytes: int) -> tuple[DeskForm, by
                              fix="Send the field as text")
         values[name] = value or ""
     values["decimal_comma"] = (form.get("decimal_comma") or "") in ("on", "true", "1", "yes")
+    # A button that switches between the two kinds of check sends its own field, so it wins over the hidden one.
+    switch = form.get("switch_to")
+    values["check"] = LINK if (switch if isinstance(switch, str) and switch else values["check"]) == LINK else TREND
+    chosen = [value for value in form.getlist("covariate_columns") if isinstance(value, str)]
+    values["covariate_columns"] = column_names(chosen)
     upload = form.get("file")
     data, filename = None, None
     if isinstance(upload, UploadFile) and upload.filename:
@@ -118,12 +152,21 @@ NOISE_MODEL_WORDS = {
 }
 
 
+TRANSFORM_WORDS = {
+    "none": "In step with the driver itself",
+    "log": "The same change for each doubling of the driver (as temperature follows CO2)",
+    "cumulative": "In step with the driver's running total (as warming follows cumulative emissions)",
+}
+
+
 def form_choices(settings: Settings) -> dict[str, Any]:
     return {"claim_kinds": {k: CLAIM_KIND_WORDS.get(k, k) for k in CLAIM_KINDS},
+            "transforms": {k: TRANSFORM_WORDS.get(k, k) for k in TRANSFORMS},
             "noise_models": {k: NOISE_MODEL_WORDS.get(k, k) for k in NOISE_MODELS},
             "rate_units": tuple(RATE_UNITS), "confidence_choices": CONFIDENCE_CHOICES,
             "defaults": {"confidence": f"{settings.default_confidence:g}", "noise": settings.default_noise,
-                         "simulations": settings.default_simulations, "rate_unit": AuditOptions().rate_unit}}
+                         "simulations": settings.default_simulations, "rate_unit": AuditOptions().rate_unit,
+                         "window_years": DEFAULT_WINDOW_YEARS}}
 
 
 FORM_FIELD_NAMES = tuple(f.name for f in fields(DeskForm))

@@ -2,185 +2,94 @@
 
 Plain HTML forms posting to plain routes, so the desk works without JavaScript. Every input problem
 comes back as the same page with the message at the top (what, where, what to do) and a 4xx status;
-the audit itself runs through the service's own path (``app.api.service``) and compute pool.
+the audit itself runs through the service's own path (``app.api.service``) and compute pool. The
+driver-and-response audit starts from the same preview (``app.web.linking``).
 """
 
 from __future__ import annotations
 
 import dataclasses
-from typing import Any
+from typing import Any, Callable
 
 from fastapi import APIRouter, Request
 from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import HTMLResponse, RedirectResponse
 
 from app.api.limits import check_string_lengths
-from app.api.runtime import Runtime
-from app.api.samples import find_sample, load_catalog, read_sample
 from app.api.service import audit_options, compute_document, job_from_csv, series_payload, store_audit
 from app.audit import Claim
-from app.errors import AccessDenied, InputError, Location, TrendAuditError
-from app.ingest import IngestOptions, ParsedTable, read_csv_text
-from app.ingest.decode import decode_text
+from app.errors import AccessDenied, InputError, TrendAuditError
 from app.report.chart_cache import chart_views
-from app.report.context import CLAIM_WORDS
-from app.report.render import render_page
+from app.report.chart_sets import AUDIT_CHARTS, ChartSet
 from app.settings import Settings
 from app.web.access import (check_key, forget_key, has_access, keys_required, remember_key, require_access,
                             safe_next)
-from app.web.forms import DeskForm, form_choices, read_form, with_defaults
+from app.web.forms import LINK, TREND, DeskForm, form_choices
+from app.web.owners import AUDITS, Collection, created_redirect
 from app.web.periods import first_time_in, last_time_in
 from app.web.preview import PreviewView, preview_view
 from app.web.problems import ProblemView, problem_view
+from app.web.reading import (chosen_columns, ingest_options, posted_form, read_table, required, sample_filled,
+                             samples, table_text)
+from app.web.responses import html, is_secure, runtime_of
 
 router = APIRouter(include_in_schema=False)
 
-SAMPLE_SOURCE = "Trend Audit sample series (invented data)"
-HTML_HEADERS = {"X-Content-Type-Options": "nosniff", "Referrer-Policy": "same-origin",
-                "Content-Security-Policy": "default-src 'self'; img-src 'self' data:; style-src 'self' 'unsafe-inline'; "
-                                           "script-src 'self'; object-src 'none'; base-uri 'none'; "
-                                           "form-action 'self'; frame-ancestors 'none'"}
-NOINDEX = {"X-Robots-Tag": "noindex, nofollow"}
 HISTORY_PAGE_SIZE = 25
-
-
-def _runtime(request: Request) -> Runtime:
-    return request.app.state.runtime.get()
-
-
-def _secure(request: Request) -> bool:
-    return request.url.scheme == "https"
-
-
-def html(template: str, *, status: int = 200, noindex: bool = False, **values: Any) -> HTMLResponse:
-    body = render_page(template, noindex=noindex, **values)
-    headers = {**HTML_HEADERS, **(NOINDEX if noindex else {})}
-    return HTMLResponse(body, status_code=status, headers=headers)
+WINDOW_FIX = "Give the first and last year (or month) of the claimed window"
 
 
 # The home page and the preview -------------------------------------------------------------------------
 
-def _samples(settings: Settings) -> list[dict[str, Any]]:
-    try:
-        return load_catalog(settings.samples_dir)
-    except (OSError, ValueError):
-        return []  # a deployment without the demo files still serves the desk
-
-
-def _desk(request: Request, *, form: DeskForm, preview: PreviewView | None = None,
-          problem: ProblemView | None = None, sample: dict[str, Any] | None = None) -> HTMLResponse:
+def desk(request: Request, *, form: DeskForm, preview: PreviewView | None = None,
+         problem: ProblemView | None = None, sample: dict[str, Any] | None = None) -> HTMLResponse:
     settings: Settings = request.app.state.settings
     return html("home.html", status=problem.status if problem else 200, form=form, preview=preview, problem=problem,
-                sample=sample, samples=_samples(settings), needs_key=not has_access(request, settings),
+                sample=sample, samples=samples(settings), needs_key=not has_access(request, settings),
                 keys_required=keys_required(settings), page_title="Trend Audit: check a claim about a trend",
-                max_upload_mb=round(settings.max_upload_bytes / 2**20, 1), **form_choices(settings))
+                max_upload_mb=round(settings.max_upload_bytes / 2**20, 1),
+                max_upload_bytes=settings.max_upload_bytes, **form_choices(settings))
 
 
-def _sample_defaults(entry: dict[str, Any]) -> dict[str, str]:
-    claim = entry.get("suggested_claim") or {}
-    kind = CLAIM_WORDS.get(claim.get("kind", "pause"), "a change")
-    title = f"Claim check: {kind} in {entry.get('title', 'the sample')}, {claim.get('start')} to {claim.get('end')}"
-    return {"title": title, "label": entry.get("title", ""),
-            "units": entry.get("units", ""), "claim_start": str(claim.get("start", "")),
-            "claim_end": str(claim.get("end", "")), "claim_kind": str(claim.get("kind", "")),
-            "rate_unit": entry.get("rate_unit", ""), "source_name": SAMPLE_SOURCE,
-            "source_notes": entry.get("description", "")}
-
-
-def _sample_filled(form: DeskForm, settings: Settings) -> DeskForm:
-    """A sample's own title, units, claim and source fill whatever the person left empty."""
-    if not form.sample or form.table.strip():
-        return form
-    return with_defaults(form, **_sample_defaults(find_sample(settings.samples_dir, form.sample)))
-
-
-def _ingest_options(form: DeskForm, settings: Settings, sample: dict[str, Any] | None) -> IngestOptions:
-    sentinels = form.sentinels()
-    if sample is not None:
-        sentinels = sentinels or tuple(sample.get("missing_sentinels") or ())
-    return IngestOptions(time_column=form.time_column.strip() or None, value_column=form.value_column.strip() or None,
-                         decimal_comma=form.decimal_comma, missing_sentinels=sentinels, label=form.label.strip(),
-                         units=form.units.strip(), max_points=settings.max_points)
-
-
-def _table_text(form: DeskForm, settings: Settings) -> tuple[str | bytes, dict[str, Any] | None]:
-    """The CSV to read: the pasted or carried-over table, else the chosen sample's file."""
-    if form.table.strip():
-        return form.table, None
-    if form.sample:
-        entry = find_sample(settings.samples_dir, form.sample)
-        path = (settings.samples_dir / entry["file"]).resolve()
-        if settings.samples_dir.resolve() not in path.parents:
-            raise InputError("that sample is not available", location=Location(field="sample"),
-                             fix="Pick one of the samples listed on the home page")
-        return path.read_bytes(), entry
-    raise InputError("no series was given", location=Location(field="file"),
-                     fix="Upload a CSV file, paste a table, or pick one of the samples")
-
-
-def _read(form: DeskForm, settings: Settings) -> tuple[ParsedTable, dict[str, Any] | None]:
-    text, sample = _table_text(form, settings)
-    return read_csv_text(text, _ingest_options(form, settings, sample)), sample
-
-
-def _with_upload(form: DeskForm, data: bytes | None) -> DeskForm:
-    """An uploaded file replaces whatever was pasted or picked; its text travels on in the form."""
-    if data is None:
-        return form
-    return dataclasses.replace(form, table=decode_text(data), sample="")
-
-
-def _chosen_columns(form: DeskForm, table: ParsedTable) -> DeskForm:
-    return dataclasses.replace(form, time_column=table.time_column, value_column=table.value_column)
-
-
-async def _preview_page(request: Request, form: DeskForm, problem: ProblemView | None = None) -> HTMLResponse:
+async def preview_page(request: Request, form: DeskForm, problem: ProblemView | None = None) -> HTMLResponse:
     settings: Settings = request.app.state.settings
     try:
-        form = _sample_filled(form, settings)
-        table, sample = await run_in_threadpool(_read, form, settings)
+        form = sample_filled(form, settings)
+        table, sample = await run_in_threadpool(read_table, form, settings)
     except TrendAuditError as error:
-        return _desk(request, form=form, problem=problem or problem_view(error))
-    form = _chosen_columns(form, table)
+        return desk(request, form=form, problem=problem or problem_view(error))
+    form = chosen_columns(form, table)
     view = await run_in_threadpool(preview_view, table)
-    return _desk(request, form=form, preview=view, problem=problem, sample=sample)
+    return desk(request, form=form, preview=view, problem=problem, sample=sample)
 
 
 @router.get("/", response_class=HTMLResponse)
-async def home(request: Request, sample: str | None = None) -> HTMLResponse:
+async def home(request: Request, sample: str | None = None, check: str | None = None) -> HTMLResponse:
     if sample:
-        return await _preview_page(request, DeskForm(sample=sample[:200]))
-    return _desk(request, form=DeskForm())
-
-
-async def _posted_form(request: Request) -> tuple[DeskForm, str | None]:
-    """The posted form, with an uploaded file's text in place of any pasted table; and the file's name."""
-    settings: Settings = request.app.state.settings
-    async with request.form(max_files=1, max_fields=60, max_part_size=settings.max_upload_bytes) as raw:
-        form, data, filename = await read_form(raw, settings.max_upload_bytes)
-    return _with_upload(form, data), filename
+        return await preview_page(request, DeskForm(sample=sample[:200], check=LINK if check == LINK else TREND))
+    return desk(request, form=DeskForm())
 
 
 @router.post("/preview", response_class=HTMLResponse)
 async def preview(request: Request) -> HTMLResponse:
     try:
-        form, _ = await _posted_form(request)
+        form, _ = await posted_form(request)
     except TrendAuditError as error:
-        return _desk(request, form=DeskForm(), problem=problem_view(error))
-    return await _preview_page(request, form)
+        return desk(request, form=DeskForm(), problem=problem_view(error))
+    return await preview_page(request, form)
 
 
 # Running the audit -----------------------------------------------------------------------------------
 
 def _job(form: DeskForm, filename: str | None, settings: Settings):
-    form = _sample_filled(form, settings)
-    table, sample = _read(form, settings)
+    form = sample_filled(form, settings)
+    table, sample = read_table(form, settings)
     times = table.series.time
     check_string_lengths({"label": form.label, "units": form.units, "source_name": form.source_name,
                           "source_url": form.source_url, "source_notes": form.source_notes},
                          settings.max_string_length)
-    claim = Claim(start=first_time_in(_required(form.claim_start, "claim_start"), times, "claim_start"),
-                  end=last_time_in(_required(form.claim_end, "claim_end"), times, "claim_end"),
+    claim = Claim(start=first_time_in(required(form.claim_start, "claim_start", WINDOW_FIX), times, "claim_start"),
+                  end=last_time_in(required(form.claim_end, "claim_end", WINDOW_FIX), times, "claim_end"),
                   kind=form.claim_kind.strip() or "pause")
     reference_start, reference_end = form.reference_texts()
     options = audit_options({**form.option_values(),
@@ -188,43 +97,46 @@ def _job(form: DeskForm, filename: str | None, settings: Settings):
                              if reference_start else None,
                              "reference_end": last_time_in(reference_end, times, "reference_end")
                              if reference_end else None}, settings)
-    text, _ = _table_text(form, settings)
-    ingest = _ingest_options(form, settings, sample)
+    text, _ = table_text(form, settings)
+    ingest = ingest_options(form, settings, sample)
     job = job_from_csv(text, claim=claim, options=options, settings=settings, title=form.title.strip(),
                        time_column=table.time_column, value_column=table.value_column,
                        decimal_comma=ingest.decimal_comma, missing_sentinels=ingest.missing_sentinels,
-                       source=form.source(), filename=filename or (sample or {}).get("file"))
+                       source=form.source(), filename=filename or (sample or {}).get("file"),
+                       covariate_columns=form.covariate_columns, covariate_max_lag=form.covariate_lag())
     # The API's CSV path names the series after its column; the desk lets the person say what it measures.
     series = dataclasses.replace(job.series, label=table.series.label, units=table.series.units)
     return dataclasses.replace(job, series=series,
                                input_document={**job.input_document, "series": series_payload(series)})
 
 
-def _required(text: str, field: str) -> str:
-    if not text.strip():
-        raise InputError("this field is empty", location=Location(field=field),
-                         fix="Give the first and last year (or month) of the claimed window")
-    return text.strip()
+async def run_desk_form(request: Request, *, check: str, make_job: Callable, compute: Callable, store: Callable,
+                        collection: Collection, charts: ChartSet) -> HTMLResponse | RedirectResponse:
+    """Reads the posted form, runs its audit through the service's path and compute pool, stores it, and sends
+    the browser to the page that shows the owner token once; a problem comes back on the preview."""
+    settings: Settings = request.app.state.settings
+    try:
+        form, filename = await posted_form(request)
+    except TrendAuditError as error:
+        return desk(request, form=DeskForm(check=check), problem=problem_view(error))
+    form = dataclasses.replace(form, check=check)
+    try:
+        require_access(request, settings, "Creating an audit")
+        runtime = runtime_of(request)
+        job = await run_in_threadpool(make_job, form, filename, settings)
+        document = await runtime.pool.run(compute, job)
+        record, owner_token = await run_in_threadpool(store, runtime.audits, job, document)
+    except TrendAuditError as error:
+        return await preview_page(request, form, problem=problem_view(error))
+    # Draw the report's charts now, while the person waits anyway, so the report itself opens at once.
+    await run_in_threadpool(chart_views, record.id, document, charts)
+    return created_redirect(request, collection, record.id, owner_token)
 
 
 @router.post("/audit", response_class=HTMLResponse, response_model=None)
 async def create(request: Request) -> HTMLResponse | RedirectResponse:
-    settings: Settings = request.app.state.settings
-    try:
-        form, filename = await _posted_form(request)
-    except TrendAuditError as error:
-        return _desk(request, form=DeskForm(), problem=problem_view(error))
-    try:
-        require_access(request, settings, "Creating an audit")
-        runtime = _runtime(request)
-        job = await run_in_threadpool(_job, form, filename, settings)
-        document = await runtime.pool.run(compute_document, job)
-        record, _owner_token = await run_in_threadpool(store_audit, runtime.audits, job, document)
-    except TrendAuditError as error:
-        return await _preview_page(request, form, problem=problem_view(error))
-    # Draw the report's charts now, while the person waits anyway, so the report itself opens at once.
-    await run_in_threadpool(chart_views, record.id, document)
-    return RedirectResponse(f"/audits/{record.id}", status_code=303)
+    return await run_desk_form(request, check=TREND, make_job=_job, compute=compute_document, store=store_audit,
+                               collection=AUDITS, charts=AUDIT_CHARTS)
 
 
 # History and access ----------------------------------------------------------------------------------
@@ -244,7 +156,7 @@ async def history(request: Request, cursor: str | None = None) -> HTMLResponse:
     except AccessDenied as error:
         return _key_page(request, error, "/history")
     try:
-        page = await run_in_threadpool(_runtime(request).audits.list, limit=HISTORY_PAGE_SIZE,
+        page = await run_in_threadpool(runtime_of(request).audits.list, limit=HISTORY_PAGE_SIZE,
                                        cursor=(cursor or None) and cursor[:64])
     except InputError as error:
         return html("history.html", status=problem_view(error).status, noindex=True, problem=problem_view(error),
@@ -267,7 +179,7 @@ async def access_submit(request: Request) -> HTMLResponse | RedirectResponse:
         forget = raw.get("forget") is not None
     if forget:
         response = RedirectResponse(next_path, status_code=303)
-        forget_key(response, _secure(request))
+        forget_key(response, is_secure(request))
         return response
     if not keys_required(settings):
         return RedirectResponse(next_path, status_code=303)
@@ -276,5 +188,5 @@ async def access_submit(request: Request) -> HTMLResponse | RedirectResponse:
     except AccessDenied as error:
         return _key_page(request, error, next_path)
     response = RedirectResponse(next_path, status_code=303)
-    remember_key(response, key, _secure(request))
+    remember_key(response, key, is_secure(request))
     return response

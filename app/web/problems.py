@@ -33,6 +33,14 @@ FIELD_LABELS = {
     "source_notes": "“Notes on the source”",
     "key": "“Access key”",
     "body": "the upload",
+    "covariate_columns": "“Other factors”",
+    "covariate_max_lag": "“Longest delay to try”",
+    "driver_column": "“Driver column”",
+    "driver_label": "“What the driver measures”",
+    "driver_units": "“Driver’s units”",
+    "window_years": "“Window length”",
+    "transform": "“How the response follows the driver”",
+    "owner_token": "“Owner token”",
 }
 
 # The audit and the API name fields by their JSON path; the desk's form uses the multipart names.
@@ -40,7 +48,10 @@ JSON_TO_FORM = {"claim.start": "claim_start", "claim.end": "claim_end", "claim.k
                 **{f"options.{name}": name for name in ("confidence", "noise", "simulations", "seed",
                                                         "reference_start", "reference_end", "rate_unit")},
                 "series.label": "label", "series.units": "units", "source.name": "source_name",
-                "source.url": "source_url", "source.notes": "source_notes"}
+                "source.url": "source_url", "source.notes": "source_notes",
+                # a driver-and-response audit's fields, as its service and the correlation audit name them
+                "response_column": "value_column", "driver.time": "driver_column", "driver": "driver_column",
+                "response": "value_column", "response.time": "value_column", "X-Owner-Token": "owner_token"}
 
 
 @dataclass(frozen=True)

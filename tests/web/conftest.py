@@ -32,3 +32,4 @@ def keyed(tmp_path) -> Iterator[TestClient]:
     with TestClient(create_app(desk_settings(tmp_path, api_keys="desk-key-one,desk-key-two")),
                     follow_redirects=False) as test_client:
         yield test_client
+

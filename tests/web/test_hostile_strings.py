@@ -9,6 +9,7 @@ import re
 import pytest
 
 from app.report.render import render_report
+from web.answers import report_path
 
 HOSTILE = ('<script>alert(1)</script>', '"><img src=x onerror=alert(1)>', "$\\alpha$", "&amp;", "]]>")
 ESCAPED_SCRIPT = "&lt;script&gt;alert(1)&lt;/script&gt;"
@@ -87,9 +88,9 @@ def test_hostile_column_names_through_the_desk(client):
                                        "claim_kind": "pause", "title": HOSTILE[0], "source_name": HOSTILE[1],
                                        "source_url": HOSTILE[1], "source_notes": " ".join(HOSTILE)})
     assert made.status_code == 303
-    report = client.get(made.headers["location"]).text
+    report = client.get(report_path(made)).text
     _assert_escaped(report, svg=False)
-    series_svg = client.get(made.headers["location"] + "/charts/series.svg").text
+    series_svg = client.get(report_path(made) + "/charts/series.svg").text
     _assert_escaped(series_svg, svg=True)
 
 
@@ -98,3 +99,34 @@ def test_a_hostile_error_message_is_escaped_too(client):
     assert 400 <= page.status_code < 500
     _assert_no_live_markup(page.text)
     assert ESCAPED_SCRIPT in page.text or re.search(r"&lt;script&gt;", page.text)
+
+
+def test_hostile_driver_and_factor_columns_through_the_desk(client):
+    years, values = _years_and_values()
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    hostile_column = " ".join(HOSTILE)
+    writer.writerow(["year", "value", hostile_column])
+    writer.writerows((y, v, round(300 + 0.5 * (y - 1950) + (y % 3), 2)) for y, v in zip(years, values))
+    table = buffer.getvalue()
+
+    preview = client.post("/preview", data={"table": table})
+    assert preview.status_code == 200
+    _assert_escaped(preview.text, svg=False)  # the factor's checkbox and its label
+    link_form = client.post("/preview", data={"table": table, "switch_to": "link"})
+    _assert_escaped(link_form.text, svg=False)  # the driver's select
+
+    adjusted = client.post("/audit", data={"table": table, "claim_start": "1998", "claim_end": "2012",
+                                           "covariate_columns": hostile_column})
+    report = report_path(adjusted)
+    _assert_escaped(client.get(report).text, svg=False)
+    _assert_escaped(client.get(f"{report}/charts/adjusted.svg").text, svg=True)
+
+    linked = client.post("/correlate", data={"table": table, "check": "link", "driver_column": hostile_column,
+                                             "driver_label": hostile_column, "driver_units": HOSTILE[0],
+                                             "title": hostile_column, "window_years": "10"})
+    report = report_path(linked)
+    _assert_escaped(client.get(report).text, svg=False)
+    _assert_escaped(client.get(f"{report}/charts/series.svg").text, svg=True)
+    history = client.get("/history").text
+    _assert_no_live_markup(history)

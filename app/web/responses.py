@@ -1,0 +1,38 @@
+"""How the desk answers: HTML pages with the desk's headers, and the per-process runtime."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from fastapi import Request
+from fastapi.responses import HTMLResponse
+
+from app.api.runtime import Runtime
+from app.report.render import render_page
+
+HTML_HEADERS = {"X-Content-Type-Options": "nosniff", "Referrer-Policy": "same-origin",
+                "Content-Security-Policy": "default-src 'self'; img-src 'self' data:; style-src 'self' 'unsafe-inline'; "
+                                           "script-src 'self'; object-src 'none'; base-uri 'none'; "
+                                           "form-action 'self'; frame-ancestors 'none'"}
+NOINDEX = {"X-Robots-Tag": "noindex, nofollow"}
+NO_STORE = {"Cache-Control": "no-store"}  # pages that show a secret once must not be kept by any cache
+
+
+def runtime_of(request: Request) -> Runtime:
+    return request.app.state.runtime.get()
+
+
+def is_secure(request: Request) -> bool:
+    return request.url.scheme == "https"
+
+
+def html(template: str, *, status: int = 200, noindex: bool = False, headers: dict[str, str] | None = None,
+         **values: Any) -> HTMLResponse:
+    body = render_page(template, noindex=noindex, **values)
+    return html_response(body, status=status, noindex=noindex, headers=headers)
+
+
+def html_response(body: str, *, status: int = 200, noindex: bool = True,
+                  headers: dict[str, str] | None = None) -> HTMLResponse:
+    return HTMLResponse(body, status_code=status,
+                        headers={**HTML_HEADERS, **(NOINDEX if noindex else {}), **(headers or {})})
