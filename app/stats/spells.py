@@ -17,18 +17,22 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+from scipy.signal import lfilter
 
 from app.errors import InputError, Location
 from app.stats.noise import NoiseModel, simulate_noise
 from app.stats.windows import check_one_series, check_times, check_window_points, window_slopes
 
 DIRECTIONS = ("low", "high")
-MEMORY_BUDGET_BYTES = 200_000_000
-# Rows per chunk are also capped: small blocks stay in cache and reuse freed memory. Measured on
-# 1,800 points and 2,000 records: 0.14 s in blocks of 250 rows against 0.3-0.4 s in one block.
+# Simulated values per chunk, and rows per chunk at most. Small blocks stay in cache and come back from
+# the allocator already mapped: on this project's 2-core VM a fresh multi-MB array costs page faults that
+# took longer than the arithmetic on it. Measured on 1,800 points and 2,000 records (min of 9, under load):
+# 150 ms in blocks of 50,000 values against 320 ms in blocks of 450,000; the working set stays near
+# 5 x 8 bytes x CHUNK_VALUES whatever the record's length.
+CHUNK_VALUES = 50_000
 MAX_CHUNK_ROWS = 250
-SAMPLE_SERIES = 200  # simulated series whose every window slope is kept for a histogram
-ARRAYS_PER_ROW = 8  # noise, detrended copy, two prefix sums, slopes and temporaries, per simulated row
+SAMPLE_SERIES = 200  # simulated series whose every window slope is kept for a histogram...
+SAMPLE_VALUES = 400_000  # ...or fewer on long records, so the sample stays a few MB
 
 
 @dataclass(frozen=True)
@@ -45,7 +49,8 @@ class SpellResult:
     probability: float  # P(at least one window of the record is as extreme): the look-elsewhere answer
     expected_count: float  # mean number of such windows per record (overlapping windows counted each)
     observed_count: int | None  # windows of the actual series as extreme; None when no values were given
-    simulated_slopes_sample: np.ndarray  # every window slope of the first (up to) 200 simulated records
+    simulated_slopes_sample: np.ndarray  # every window slope of the first 200 simulated records (fewer when
+    #                                      the record has over 2,000 windows: at most 400,000 slopes)
     simulated_extremes: np.ndarray  # per simulated record, its lowest ("low") or highest ("high") window slope
     probability_single_window: float  # P(one given window is as extreme): the nominal, unadjusted chance
     n_simulations: int
@@ -75,21 +80,27 @@ def spell_probability(t: np.ndarray, null_slope: float, noise: NoiseModel, windo
                          (null_slope, observed_slope))
     generator = np.random.default_rng(rng)
     sign = 1.0 if direction == "low" else -1.0
-    # Flipping signs for "high" lets one code path count "<=" for both directions.
+    # Threshold and extremes are kept sign-flipped for "high", so one test ("<=") serves both directions.
     threshold = sign * (float(observed_slope) - float(null_slope))
 
     n_windows = t.size - window_points + 1
-    chunk_rows = _chunk_rows(t.size, n_windows)
+    windows = _WindowSums(t, window_points)
+    chunk_rows = _chunk_rows(t.size)
+    sample_rows = max(1, min(SAMPLE_SERIES, SAMPLE_VALUES // n_windows))
     extremes, samples = [], []
     total_as_extreme = 0
     done = 0
     while done < n_simulations:
         rows = min(chunk_rows, n_simulations - done)
-        slopes = sign * window_slopes(t, simulate_noise(noise, t.size, rows, generator), window_points)
-        extremes.append(slopes.min(axis=1))
-        total_as_extreme += int(np.count_nonzero(slopes <= threshold))
-        if done < SAMPLE_SERIES:
-            samples.append(slopes[: SAMPLE_SERIES - done].ravel())
+        slopes = windows.slopes(_running_sums(noise, t.size, rows, generator))
+        if sign > 0:
+            extremes.append(slopes.min(axis=1))
+            total_as_extreme += int(np.count_nonzero(slopes <= threshold))
+        else:
+            extremes.append(-slopes.max(axis=1))
+            total_as_extreme += int(np.count_nonzero(slopes >= -threshold))
+        if done < sample_rows:
+            samples.append(slopes[: sample_rows - done].ravel())
         done += rows
 
     signed_extremes = np.concatenate(extremes)
@@ -101,7 +112,7 @@ def spell_probability(t: np.ndarray, null_slope: float, noise: NoiseModel, windo
         probability=(records_as_extreme + 1) / (n_simulations + 1),
         expected_count=total_as_extreme / n_simulations,
         observed_count=_observed_count(t, observed_values, window_points, observed_slope, sign),
-        simulated_slopes_sample=null_slope + sign * np.concatenate(samples),
+        simulated_slopes_sample=null_slope + np.concatenate(samples),
         simulated_extremes=null_slope + sign * signed_extremes,
         probability_single_window=total_as_extreme / (n_simulations * n_windows),
         n_simulations=int(n_simulations),
@@ -125,10 +136,60 @@ def _observed_count(t: np.ndarray, values: np.ndarray | None, window_points: int
     return int(np.count_nonzero(sign * (slopes - observed_slope) <= tolerance))
 
 
-def _chunk_rows(n: int, n_windows: int) -> int:
-    """Simulated records per chunk, keeping the working arrays under the memory budget."""
-    bytes_per_row = 8 * (ARRAYS_PER_ROW * n + n_windows)
-    return int(max(1, min(MAX_CHUNK_ROWS, MEMORY_BUDGET_BYTES // bytes_per_row)))
+def _chunk_rows(n: int) -> int:
+    """Simulated records per chunk, keeping the working arrays near ``CHUNK_VALUES`` values."""
+    return int(max(1, min(MAX_CHUNK_ROWS, CHUNK_VALUES // n)))
+
+
+class _WindowSums:
+    """OLS slopes of every window of ``length`` points of simulated noise, straight from its running sums.
+
+    The same prefix-sum slopes as ``app.stats.windows`` (centred times, float64), arranged so the noise
+    itself is never formed: the filter that makes AR(1) noise from white innovations also sums it
+    (``_running_sums``), and a window's sum of t x comes from the running sums by summation by parts,
+    ``sum_{a..b} t_k x_k = t_b C_b - t_a C_{a-1} - sum_{a..b-1} (t_{k+1} - t_k) C_k``. Noise carries no
+    trend, so no row needs detrending first. Times may be irregular.
+    """
+
+    def __init__(self, t: np.ndarray, length: int):
+        self.length = length
+        tc = t - t.mean()
+        self.tc, self.steps = tc, np.diff(tc)
+        cum_t = np.concatenate([[0.0], np.cumsum(tc)])
+        cum_tt = np.concatenate([[0.0], np.cumsum(tc * tc)])
+        sum_t = cum_t[length:] - cum_t[:-length]
+        self.t_bar = sum_t / length
+        self.inverse_sxx = 1.0 / ((cum_tt[length:] - cum_tt[:-length]) - sum_t * self.t_bar)
+
+    def slopes(self, running: np.ndarray) -> np.ndarray:
+        """(S, windows) slopes from the running sums C (S, n) of the rows; windows hold at least 3 points."""
+        length, n = self.length, running.shape[1]
+        windows = n - length + 1
+        # E_k = sum_{i <= k} (t_{i+1} - t_i) C_i for k = 0 .. n - 2; window a..b needs E_{b-1} - E_{a-1}.
+        weighted = np.cumsum(np.multiply(running[:, :-1], self.steps), axis=1)
+        sum_ty = running[:, length - 1:] * self.tc[length - 1:]
+        sum_ty -= weighted[:, length - 2:]
+        sum_ty[:, 1:] -= running[:, :windows - 1] * self.tc[1:windows]
+        sum_ty[:, 1:] += weighted[:, :windows - 1]
+        sum_y = running[:, length - 1:].copy()
+        sum_y[:, 1:] -= running[:, :windows - 1]
+        np.multiply(sum_y, self.t_bar, out=sum_y)
+        np.subtract(sum_ty, sum_y, out=sum_ty)
+        return np.multiply(sum_ty, self.inverse_sxx, out=sum_ty)
+
+
+def _running_sums(noise: NoiseModel, n: int, rows: int, rng: np.random.Generator) -> np.ndarray:
+    """cumsum(simulate_noise(noise, n, rows, rng), axis=1), drawing the same variates.
+
+    For white and AR(1) noise one filter both makes the noise and sums it: sigma / ((1 - z^-1)(1 - phi z^-1)).
+    """
+    if noise.kind == "white" or (noise.phi == 0.0 and noise.theta == 0.0):
+        return lfilter([noise.sigma], [1.0, -1.0], rng.standard_normal((rows, n)), axis=1)
+    if noise.theta == 0.0:
+        e = rng.standard_normal((rows, n))
+        e[:, 0] /= np.sqrt(1.0 - noise.phi * noise.phi)
+        return lfilter([noise.sigma], [1.0, -(1.0 + noise.phi), noise.phi], e, axis=1)
+    return np.cumsum(simulate_noise(noise, n, rows, rng), axis=1)
 
 
 def _check_spell_options(n: int, window_points: int, direction: str, n_simulations: int,

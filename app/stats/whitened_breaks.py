@@ -25,7 +25,7 @@ import numpy as np
 
 from app.stats.noise import NoiseModel, simulate_noise
 
-CHUNK_VALUES = 2_000_000  # simulated values held at once (16 MB per working array), whatever the length
+CHUNK_VALUES = 200_000  # simulated values held at once (1.6 MB per working array), whatever the length
 
 
 class WhitenedBreakStats:

@@ -115,3 +115,15 @@ def test_segmentation_on_a_long_monthly_record_is_fast_enough_to_run_in_every_au
     assert 1965 <= result.breakpoints[0] <= 1985
     assert set(result.rss) == {0, 1, 2, 3, 4}
     assert all(result.rss[k + 1] <= result.rss[k] for k in range(4))
+
+
+def test_very_long_records_are_searched_on_a_coarser_grid_of_knots():
+    from app.stats.segment.continuous import MAX_KNOTS, candidate_step
+    assert candidate_step(np.array([1850.5, 2024.5]), 1.0) == 1.0
+    assert candidate_step(np.array([1477.0, 2024.9]), 1.0) == 2.0  # 548 years of daily values
+    t = np.arange(0.5, 1000.0)
+    y = 0.002 * t + 0.01 * np.maximum(t - 600.0, 0.0) + np.random.default_rng(10).normal(0.0, 0.1, t.size)
+    result = segment_continuous(t, y, max_breaks=2)
+    assert all(b % candidate_step(t, 1.0) == 0 for b in result.breakpoints)
+    assert (t[-1] - t[0]) / candidate_step(t, 1.0) <= MAX_KNOTS
+    assert any(abs(b - 600) <= 20 for b in result.breakpoints)

@@ -24,6 +24,7 @@ from app.stats.segment.costs import COSTS, SegmentCost
 from app.stats.segment.result import Segmentation
 
 MAX_POSITIONS = 2000
+BLOCK_VALUES = 65_536  # matrix entries computed at once (half a MB per temporary)
 
 
 class DiscontinuousSearch(Search):
@@ -32,10 +33,8 @@ class DiscontinuousSearch(Search):
         n = t.size
         step = math.ceil(n / MAX_POSITIONS)
         self.positions = np.unique(np.append(np.arange(0, n + 1, step), n))
-        pos = self.positions
-        matrix = cost.costs(pos[:, None], pos[None, :])
-        self.matrix = np.where(pos[None, :] - pos[:, None] >= min_size, matrix, np.inf)
-        self._best, self._forward = _optimal_partitions(self.matrix, max_breaks, pos)
+        self.matrix = _cost_matrix(cost, self.positions, min_size)
+        self._best, self._forward = _optimal_partitions(self.matrix, max_breaks, self.positions)
 
     @staticmethod
     def critical_value(confidence: float, dof: float) -> float:
@@ -83,11 +82,28 @@ class DiscontinuousSearch(Search):
         ``k - which`` segments from it to the end (the same recursion run from the other side).
         """
         backward = self.matrix[:, -1].copy()
+        block = max(1, BLOCK_VALUES // backward.size)
         for _ in range(len(breaks) - which - 1):
-            backward = np.min(self.matrix + backward[None, :], axis=1)
+            backward = np.concatenate([np.min(self.matrix[first:first + block] + backward[None, :], axis=1)
+                                       for first in range(0, backward.size, block)])
         total = self._forward[which] + backward
         reachable = np.isfinite(total) & (self.positions > 0) & (self.positions < self.t.size)
         return self.t[self.positions[reachable] - 1], total[reachable]
+
+
+def _cost_matrix(cost: SegmentCost, positions: np.ndarray, min_size: int) -> np.ndarray:
+    """Cost of every segment between two positions (inf where too short), a block of rows at a time.
+
+    Whole-matrix arithmetic would hold a dozen temporaries of the matrix's size; blocks keep them small.
+    """
+    size = positions.size
+    matrix = np.empty((size, size))
+    block = max(1, BLOCK_VALUES // size)
+    for first in range(0, size, block):
+        rows = positions[first:first + block, None]
+        costs = cost.costs(rows, positions[None, :])
+        matrix[first:first + block] = np.where(positions[None, :] - rows >= min_size, costs, np.inf)
+    return matrix
 
 
 def _optimal_partitions(matrix: np.ndarray, max_breaks: int, positions: np.ndarray):
@@ -100,10 +116,17 @@ def _optimal_partitions(matrix: np.ndarray, max_breaks: int, positions: np.ndarr
     previous = matrix[0].copy()  # one segment from the start to each position
     forward = [previous]
     choices = []
+    size = positions.size
+    block = max(1, BLOCK_VALUES // size)
     for k in range(1, max_breaks + 1):
-        total = previous[:, None] + matrix  # previous segments end at a, the new one runs from a to b
-        choice = np.argmin(total, axis=0)
-        previous = total[choice, np.arange(positions.size)]
+        choice, reached = np.empty(size, dtype=np.intp), np.empty(size)
+        for first in range(0, size, block):
+            # previous segments end at a, the new one runs from a to b
+            total = previous[:, None] + matrix[:, first:first + block]
+            least = np.argmin(total, axis=0)
+            choice[first:first + block] = least
+            reached[first:first + block] = total[least, np.arange(least.size)]
+        previous = reached
         forward.append(previous)
         choices.append(choice)
         if not np.isfinite(previous[last]):
