@@ -6,7 +6,7 @@ from collections.abc import Iterable
 from typing import Any
 
 from app.api.problems import problem_for_error, problem_response
-from app.errors import LimitExceeded, Location
+from app.errors import InputError, LimitExceeded, Location
 
 BODY_METHODS = frozenset({"POST", "PUT", "PATCH"})
 
@@ -95,8 +95,12 @@ def _content_length(headers: Iterable[tuple[bytes, bytes]]) -> int | None:
 
 
 def check_string_lengths(fields: dict[str, str | None], limit: int) -> None:
-    """422 naming the first field whose text is longer than the limit."""
+    """422 naming the first field whose text is longer than the limit, or holds a NUL character (which no
+    title or label needs, and which PostgreSQL cannot store in a text column)."""
     for name, text in fields.items():
         if text is not None and len(text) > limit:
             raise LimitExceeded(f"the text is {len(text):,} characters long; the limit is {limit:,}",
                                 location=Location(field=name), fix=f"Shorten '{name}' to at most {limit:,} characters")
+        if text is not None and "\x00" in text:
+            raise InputError("the text holds a NUL character (code 0)", location=Location(field=name),
+                             fix=f"Remove the NUL character from '{name}'")
