@@ -40,6 +40,9 @@ def _answers(client, audit_id: str, correlation_id: str) -> dict[str, object]:
         "home with a sample's preview": get("/?sample=quorvane-annual-temperature"),
         "desk preview of a pasted table": post("/preview", data={"table": csv_text()}),
         "desk input problem (4xx page)": post("/preview", data={"table": "year,value\n1990,x\n"}),
+        "desk audit, redirected to the page showing its owner token": post(
+            "/audit", data={"table": csv_text(), "claim_start": "1998", "claim_end": "2012"}),
+        "delete refused (desk form, wrong token)": post(f"/audits/{audit_id}/delete", data={"owner_token": "x"}),
         "history page": get("/history"),
         "access-key page": get("/access"),
         "report page": get(f"/audits/{audit_id}"),
