@@ -8,6 +8,7 @@ import re
 from app.report.context import VERDICT_LABELS
 from app.settings import PROJECT_ROOT
 
+CREATED_AUDIT = re.compile(r".*/audits/[A-Za-z0-9_-]+/created$")
 CSV_TEXT = "year,anomaly\n" + "\n".join(
     f"{year},{0.015 * (year - 1950) + 0.12 * ((year * 7) % 5 - 2) / 2:.3f}" for year in range(1950, 2025))
 
@@ -36,7 +37,8 @@ def test_upload_check_the_preview_run_the_audit_and_read_the_verdict(page, serve
     page.fill("#title", "Browser upload: has it paused since 1998?")
     page.fill("#units", "°C")
     page.get_by_role("button", name="Run the audit").click()
-    page.wait_for_url(re.compile(r".*/audits/[A-Za-z0-9_-]+$"), timeout=120_000)
+    page.wait_for_url(CREATED_AUDIT, timeout=120_000)
+    assert page.locator("#owner-token-field").input_value()  # shown once, on the page the audit opens on
 
     label = page.inner_text(".verdict-label")
     assert any(text in label for text in VERDICT_LABELS.values())
@@ -139,7 +141,9 @@ def test_the_whole_desk_works_without_javascript(browser, server, console):
         plain.fill("#claim_start", "2000")
         plain.fill("#claim_end", "2014")
         plain.get_by_role("button", name="Run the audit").click()
-        plain.wait_for_url(re.compile(r".*/audits/[A-Za-z0-9_-]+$"), timeout=120_000)
+        plain.wait_for_url(CREATED_AUDIT, timeout=120_000)
+        assert plain.locator("#owner-token-field").input_value()
+        assert plain.locator("button[data-copy]").is_hidden()  # copying needs a script; the field can be selected
         assert "slowdown" in plain.inner_text(".kicker").lower()
         assert plain.locator("#verdict-headline").inner_text()
         assert plain.locator("figure.chart svg[role=img]").count() == 5
