@@ -79,6 +79,7 @@ def test_the_raw_and_adjusted_chart_comes_first_and_downloads_like_the_others(ad
     assert f'href="/audits/{AUDIT_ID}/charts/adjusted.svg"' in html
     svg = chart_file(AUDIT_ID, adjusted, "adjusted", "inline")
     assert "As measured" in svg and "Adjusted for ocean_index" in svg
+    assert "style=" not in svg and "<style" not in svg  # a strict Content-Security-Policy still draws it
     rate = Rate.of(adjusted)
     description = re.search(r"<desc [^>]*>(.*?)</desc>", svg, re.S).group(1)
     assert rate.text(adjusted["long_term"]["slope"]) in description
