@@ -34,7 +34,7 @@ class DiscontinuousSearch(Search):
         step = math.ceil(n / MAX_POSITIONS)
         self.positions = np.unique(np.append(np.arange(0, n + 1, step), n))
         self.matrix = _cost_matrix(cost, self.positions, min_size)
-        self._best, self._forward = _optimal_partitions(self.matrix, max_breaks, self.positions)
+        self._best, self._forward = _optimal_partitions(self.matrix, max_breaks, self.positions, min_size)
 
     @staticmethod
     def critical_value(confidence: float, dof: float) -> float:
@@ -97,16 +97,17 @@ def _cost_matrix(cost: SegmentCost, positions: np.ndarray, min_size: int) -> np.
     Whole-matrix arithmetic would hold a dozen temporaries of the matrix's size; blocks keep them small.
     """
     size = positions.size
-    matrix = np.empty((size, size))
+    matrix = np.full((size, size), np.inf)
     block = max(1, BLOCK_VALUES // size)
     for first in range(0, size, block):
         rows = positions[first:first + block, None]
-        costs = cost.costs(rows, positions[None, :])
-        matrix[first:first + block] = np.where(positions[None, :] - rows >= min_size, costs, np.inf)
+        reach = int(np.searchsorted(positions, positions[first] + min_size))  # no shorter segment is costed
+        columns = positions[None, reach:]
+        matrix[first:first + block, reach:] = np.where(columns - rows >= min_size, cost.costs(rows, columns), np.inf)
     return matrix
 
 
-def _optimal_partitions(matrix: np.ndarray, max_breaks: int, positions: np.ndarray):
+def _optimal_partitions(matrix: np.ndarray, max_breaks: int, positions: np.ndarray, min_size: int):
     """Least total cost of 1..max_breaks + 1 segments covering positions[0]..positions[-1], with the breaks.
 
     Also returns forward[k][b]: the least cost of k + 1 segments from the start to position b.
@@ -121,11 +122,13 @@ def _optimal_partitions(matrix: np.ndarray, max_breaks: int, positions: np.ndarr
     for k in range(1, max_breaks + 1):
         choice, reached = np.empty(size, dtype=np.intp), np.empty(size)
         for first in range(0, size, block):
-            # previous segments end at a, the new one runs from a to b
-            total = previous[:, None] + matrix[:, first:first + block]
+            # previous segments end at a, the new one runs from a to b; later a are too close to any b here
+            columns = slice(first, min(first + block, size))
+            reach = max(int(np.searchsorted(positions, positions[columns.stop - 1] - min_size, side="right")), 1)
+            total = previous[:reach, None] + matrix[:reach, columns]
             least = np.argmin(total, axis=0)
-            choice[first:first + block] = least
-            reached[first:first + block] = total[least, np.arange(least.size)]
+            choice[columns] = least
+            reached[columns] = total[least, np.arange(least.size)]
         previous = reached
         forward.append(previous)
         choices.append(choice)

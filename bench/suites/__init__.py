@@ -1,0 +1,1 @@
+"""One module per benchmark; each ``run(quick) -> list[Figure]``."""
