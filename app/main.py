@@ -17,6 +17,7 @@ from app.api.schemas import AuditRequest, CorrelationRequest, MultipartAuditForm
 from app.security import install_security_headers
 from app.settings import Settings
 from app.web import routers as desk_routers
+from app.web.too_large import too_large_page
 
 # Bodies read by hand (JSON or multipart on one path) are described here so /docs can show them.
 HAND_READ_BODIES = (AuditRequest, MultipartAuditForm, CorrelationRequest)
@@ -59,7 +60,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     install_security_headers(application)  # outside everything, so errors of every kind carry the headers
     for router in desk_routers:  # the browser desk: HTML pages, their assets, chart downloads
         application.include_router(router)
-    application.add_middleware(BodySizeLimit, max_bytes=settings.max_upload_bytes)
+    application.add_middleware(BodySizeLimit, max_bytes=settings.max_upload_bytes, html_refusal=too_large_page)
     for router in (audits.router, audits.pages, correlations.router, correlations.pages, samples.router,
                    trend.router):
         application.include_router(router)

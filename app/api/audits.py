@@ -198,4 +198,6 @@ def audit_data(audit_id: str = AUDIT_ID, runtime: Runtime = Depends(get_runtime)
 
 @pages.get("/audits/{audit_id}", response_class=HTMLResponse, summary="The audit's report page")
 def audit_report(audit_id: str = AUDIT_ID, runtime: Runtime = Depends(get_runtime)) -> HTMLResponse:
-    return HTMLResponse(render_report(audit_body(runtime.audits.get(audit_id, kind=AUDIT), runtime.settings)))
+    record = runtime.audits.get(audit_id, kind=AUDIT)
+    source = (record.input_document or {}).get("source")
+    return HTMLResponse(render_report(audit_body(record, runtime.settings), source=source))

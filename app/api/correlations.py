@@ -98,4 +98,5 @@ def correlation_data(correlation_id: str = CORRELATION_ID, runtime: Runtime = De
 @pages.get("/correlations/{correlation_id}", response_class=HTMLResponse, summary="The correlation audit's report page")
 def correlation_report(correlation_id: str = CORRELATION_ID, runtime: Runtime = Depends(get_runtime)) -> HTMLResponse:
     record = runtime.audits.get(correlation_id, kind=CORRELATION)
-    return HTMLResponse(render_correlation_report(correlation_body(record, runtime.settings)))
+    source = (record.input_document or {}).get("source")
+    return HTMLResponse(render_correlation_report(correlation_body(record, runtime.settings), source=source))

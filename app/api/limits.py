@@ -30,9 +30,11 @@ class BodySizeLimit:
     tries to answer is replaced by the 413.
     """
 
-    def __init__(self, app, max_bytes: int) -> None:
+    def __init__(self, app, max_bytes: int, html_refusal=None) -> None:
         self.app = app
         self.max_bytes = max_bytes
+        # The desk supplies a page for browsers; API clients (and anyone not asking for HTML) get the problem.
+        self.html_refusal = html_refusal
 
     async def __call__(self, scope, receive, send) -> None:
         if scope["type"] != "http" or scope["method"] not in BODY_METHODS:
@@ -75,8 +77,11 @@ class BodySizeLimit:
             await self._refuse(scope, send)
 
     async def _refuse(self, scope, send) -> None:
-        status, body = problem_for_error(body_too_large(self.max_bytes), instance=scope.get("path"))
-        response = problem_response(status, body, headers={"Connection": "close"})
+        error = body_too_large(self.max_bytes)
+        response = self.html_refusal(scope, error) if self.html_refusal else None
+        if response is None:
+            status, body = problem_for_error(error, instance=scope.get("path"))
+            response = problem_response(status, body, headers={"Connection": "close"})
         await response(scope, _no_receive, send)
 
 
