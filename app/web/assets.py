@@ -45,9 +45,7 @@ def _chart_response(request: Request, record_id: str, filename: str, kind: str, 
     body = chart_file(record.id, record.result_document, name, fmt, charts)
     return Response(body, media_type=MEDIA_TYPES[fmt], headers={
         "Content-Disposition": f'inline; filename="trendaudit-{record.id}-{name}.{fmt}"',
-        "Cache-Control": "public, max-age=86400", "X-Content-Type-Options": "nosniff",
-        "Content-Security-Policy": "default-src 'none'; style-src 'unsafe-inline'; img-src data:",
-        "X-Robots-Tag": "noindex"})
+        "Cache-Control": "public, max-age=86400"})  # security headers: app.security, on every answer
 
 
 @router.get("/audits/{audit_id}/charts/{filename}")

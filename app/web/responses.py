@@ -10,10 +10,6 @@ from fastapi.responses import HTMLResponse
 from app.api.runtime import Runtime
 from app.report.render import render_page
 
-HTML_HEADERS = {"X-Content-Type-Options": "nosniff", "Referrer-Policy": "same-origin",
-                "Content-Security-Policy": "default-src 'self'; img-src 'self' data:; style-src 'self' 'unsafe-inline'; "
-                                           "script-src 'self'; object-src 'none'; base-uri 'none'; "
-                                           "form-action 'self'; frame-ancestors 'none'"}
 NOINDEX = {"X-Robots-Tag": "noindex, nofollow"}
 NO_STORE = {"Cache-Control": "no-store"}  # pages that show a secret once must not be kept by any cache
 
@@ -35,4 +31,4 @@ def html(template: str, *, status: int = 200, noindex: bool = False, headers: di
 def html_response(body: str, *, status: int = 200, noindex: bool = True,
                   headers: dict[str, str] | None = None) -> HTMLResponse:
     return HTMLResponse(body, status_code=status,
-                        headers={**HTML_HEADERS, **(NOINDEX if noindex else {}), **(headers or {})})
+                        headers={**(NOINDEX if noindex else {}), **(headers or {})})  # CSP etc.: app.security
