@@ -1,0 +1,22 @@
+# A plain image for the service: Python slim, the project installed, uvicorn on port 8000.
+# Storage defaults to SQLite under /app/var; set TRENDAUDIT_DATABASE_URL for PostgreSQL and
+# TRENDAUDIT_API_KEYS before exposing it beyond localhost.
+FROM python:3.11-slim
+
+ENV PYTHONDONTWRITEBYTECODE=1 \
+    PYTHONUNBUFFERED=1 \
+    MPLBACKEND=Agg \
+    TRENDAUDIT_HOST=0.0.0.0
+
+WORKDIR /app
+COPY pyproject.toml README.md ./
+COPY app ./app
+COPY templates ./templates
+COPY static ./static
+COPY sample_series ./sample_series
+# Editable, so the app finds templates/, static/ and sample_series/ beside it in /app.
+RUN pip install --no-cache-dir -e . && useradd --create-home trendaudit && mkdir -p var && chown trendaudit var
+
+USER trendaudit
+EXPOSE 8000
+CMD ["trendaudit", "serve", "--host", "0.0.0.0", "--port", "8000", "--workers", "2"]
