@@ -33,6 +33,8 @@ class Settings(BaseSettings):
     # request limit (measured for the benchmarks, bench/README.md).
     max_points: int = 50_000
     max_simulations: int = 20_000
+    # Points x simulations: 1,800 monthly points x 20,000 fits; 50,000 points x 2,000 is the same work.
+    max_simulated_points: int = 100_000_000
     max_string_length: int = 2_000
     request_timeout_seconds: float = 60.0
 

@@ -19,7 +19,7 @@ from app.api.limits import check_string_lengths
 from app.api.payloads import series_payload
 from app.api.schemas import CorrelationRequest
 from app.api.columns import extra_column, unusable_column
-from app.api.service import record_body, string_times, with_defaults
+from app.api.service import check_work, record_body, string_times, with_defaults
 from app.correlation import CorrelationOptions, check_correlation_options, correlation_document, run_correlation
 from app.errors import Location, SeriesFormatError
 from app.ingest import IngestOptions, Series, read_csv_text, series_from_json
@@ -53,6 +53,7 @@ def default_correlation_title(driver: Series, response: Series, options: Correla
 def prepare_correlation_job(*, title: str, driver: Series, response: Series, options: CorrelationOptions,
                             source: dict[str, Any], ingest: dict[str, Any], settings: Settings) -> CorrelationJob:
     title = title.strip() or default_correlation_title(driver, response, options)
+    check_work(response.n, options.simulations, settings.max_simulated_points)
     check_string_lengths({"title": title}, settings.max_string_length)
     document = {"format": ingest.get("format"), "driver": series_payload(driver),
                 "response": series_payload(response), "options": dataclasses.asdict(options), "source": source,

@@ -22,7 +22,7 @@ from app.api.payloads import series_from_payload, series_payload  # noqa: F401  
 from app.api.schemas import AuditRequest
 from app.audit import AuditOptions, Claim, audit_document, run_audit
 from app.audit.claim import check_claim, check_options
-from app.errors import ClaimError, InputError, Location
+from app.errors import ClaimError, InputError, LimitExceeded, Location
 from app.ingest import IngestOptions, Series, check_window_in_series, read_csv_text, series_from_json
 from app.ingest.cells import CellError
 from app.ingest.numbers import normalise
@@ -77,6 +77,16 @@ def make_claim(start: float | int | str, end: float | int | str, kind: str, pref
     return Claim(start=claim_time(start, f"{prefix}start"), end=claim_time(end, f"{prefix}end"), kind=kind)
 
 
+def check_work(n_points: int, simulations: int, limit: int, field: str = "options.simulations") -> None:
+    """Points times simulations bounds an audit's time and memory; refuse what would run past the limit."""
+    if n_points * simulations > limit:
+        most = max(100, limit // max(n_points, 1))
+        raise LimitExceeded(f"{simulations} simulations of a {n_points}-point series is more work than this "
+                            f"service does in one request ({limit:,} simulated points)",
+                            location=Location(field=field),
+                            fix=f"Ask for at most {most} simulations for a series this long, or send fewer points")
+
+
 def default_title(series: Series, claim: Claim) -> str:
     return f"{series.label or 'Series'}: {claim.kind} claimed {claim.start:g} to {claim.end:g}"
 
@@ -86,6 +96,7 @@ def prepare_job(*, title: str, series: Series, claim: Claim, options: AuditOptio
                 covariate_fields: Sequence[str] = (), field_names: tuple[tuple[str, str], ...] = ()) -> AuditJob:
     check_claim(claim)
     check_window_in_series(series, claim.start, claim.end)
+    check_work(series.n, options.simulations, settings.max_simulated_points)
     check_lag_cells(series, covariates, covariate_fields or [f"covariates[{i}].max_lag" for i in range(len(covariates))])
     title = title.strip() or default_title(series, claim)
     check_string_lengths({"title": title}, settings.max_string_length)
