@@ -8,7 +8,7 @@ from fastapi import FastAPI
 from fastapi.openapi.utils import get_openapi
 
 from app import __version__
-from app.api import audits, correlations, samples, trend
+from app.api import audits, correlations, docs, samples, trend
 from app.api.limits import BodySizeLimit
 from app.api.openapi_problems import document_problems
 from app.api.problems import install_problem_handlers
@@ -53,6 +53,8 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         description="Checks whether a short spell in a long series is consistent with its long-term trend. "
                     "Slopes are per year; times are decimal years.",
         lifespan=lifespan,
+        docs_url=None,  # served by app.api.docs from local files, not a CDN
+        redoc_url=None,
     )
     application.state.settings = settings
     application.state.runtime = runtime
@@ -62,7 +64,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         application.include_router(router)
     application.add_middleware(BodySizeLimit, max_bytes=settings.max_upload_bytes, html_refusal=too_large_page)
     for router in (audits.router, audits.pages, correlations.router, correlations.pages, samples.router,
-                   trend.router):
+                   trend.router, docs.router):
         application.include_router(router)
     application.openapi = lambda: _openapi_with(application, HAND_READ_BODIES)
 

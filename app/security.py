@@ -17,11 +17,10 @@ It sets, replacing whatever a route said:
 - ``X-Robots-Tag: noindex, nofollow`` on everything but the home page and static files: reports,
   charts, history and the API answers are for the people given the link, never for search engines.
 
-FastAPI's /docs and /redoc pages are third-party: they load Swagger UI and ReDoc from the jsDelivr CDN
-and start them with an inline script. Those pages (they show no user input) get their own policy: their
-inline scripts are allowed by hash, computed from the page as served, never by 'unsafe-inline'; their
-styles need 'unsafe-inline', because both libraries write style attributes as they render
-(swagger-api/swagger-ui issue 10655, open in 2025).
+The /docs page runs Swagger UI from this service's own copy (``app.api.docs``) and starts it with an
+inline script. That page (it shows no user input) gets its own policy: its inline script is allowed by
+hash, computed from the page as served, never by 'unsafe-inline'; its styles need 'unsafe-inline',
+because Swagger UI writes style attributes as it renders (swagger-api/swagger-ui issue 10655, open in 2025).
 """
 
 from __future__ import annotations
@@ -36,13 +35,10 @@ from starlette.datastructures import MutableHeaders
 PAGE_POLICY = ("default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self' data:; font-src 'self'; "
                "connect-src 'self'; object-src 'none'; base-uri 'none'; form-action 'self'; frame-ancestors 'none'")
 RESOURCE_POLICY = "default-src 'none'; img-src data:; base-uri 'none'; form-action 'none'; frame-ancestors 'none'"
-DOCS_CDN = "https://cdn.jsdelivr.net"
-DOCS_POLICY = ("default-src 'self'; script-src 'self' " + DOCS_CDN + " {script_hashes}; "
-               "style-src 'self' " + DOCS_CDN + " https://fonts.googleapis.com 'unsafe-inline'; "
-               "font-src 'self' https://fonts.gstatic.com; img-src 'self' data: https://fastapi.tiangolo.com; "
-               "worker-src 'self' blob:; connect-src 'self'; object-src 'none'; base-uri 'none'; "
-               "form-action 'self'; frame-ancestors 'none'")
-DOCS_PATHS = frozenset({"/docs", "/redoc", "/docs/oauth2-redirect"})
+DOCS_POLICY = ("default-src 'self'; script-src 'self' {script_hashes}; style-src 'self' 'unsafe-inline'; "
+               "font-src 'self'; img-src 'self' data:; worker-src 'self' blob:; connect-src 'self'; "
+               "object-src 'none'; base-uri 'none'; form-action 'self'; frame-ancestors 'none'")
+DOCS_PATHS = frozenset({"/docs", "/docs/oauth2-redirect"})
 DOCS_PAGE_LIMIT = 256 * 1024  # those pages are about 1 kB; anything far larger is not what the hashes are for
 
 COMMON_HEADERS = {

@@ -126,7 +126,7 @@ def test_body_too_large_and_internal_errors_carry_the_headers_too(make_client, m
 
 
 def test_the_api_docs_page_allows_its_own_inline_script_by_hash_only(client):
-    for path in ("/docs", "/redoc"):
+    for path in ("/docs",):
         response = client.get(path)
         assert response.status_code == 200
         policy = dict(part.strip().split(" ", 1) for part in response.headers["content-security-policy"].split(";"))
@@ -136,3 +136,9 @@ def test_the_api_docs_page_allows_its_own_inline_script_by_hash_only(client):
         assert "'unsafe-inline'" not in policy["script-src"] and policy["frame-ancestors"] == "'none'"
         assert response.headers["x-robots-tag"] == "noindex, nofollow"
     assert client.get("/docs").text.count("<script>") == 1  # Swagger UI's start-up script: hashed above
+    # Swagger UI's own files come from this service, never a CDN.
+    page = client.get("/docs").text
+    assert "http://" not in page.replace("http://www.w3.org", "") and "https://" not in page
+    for asset in ("/docs/assets/swagger-ui-bundle.js", "/docs/assets/swagger-ui.css"):
+        assert asset in page and client.get(asset).status_code == 200
+    assert client.get("/docs/assets/index.html").status_code == 404
