@@ -195,6 +195,30 @@ def _cell_ticks(set_ticks, centres: np.ndarray, doc: dict[str, Any]) -> None:
     set_ticks(chosen, [time_of(doc, value) for value in chosen])
 
 
+def _evenly_spaced(centres: np.ndarray, step: float) -> bool:
+    return centres.size < 2 or (step > 0 and bool(np.allclose(np.diff(centres), step, rtol=1e-3, atol=0.0)))
+
+
+def _cell_image(ax, ends: np.ndarray, starts: np.ndarray, slopes: np.ndarray, end_step: float, start_step: float,
+                cmap, norm):
+    """The cells as one small embedded picture, with thin paper-coloured lines between them.
+
+    A mesh of several hundred cells becomes one SVG path per cell, which took a third of the report's drawing
+    time; the picture is a few kilobytes and the page's Content-Security-Policy allows ``data:`` images.
+    ``interpolation="none"`` keeps one pixel per cell, scaled by the browser without blurring; the lines sit
+    under the outline of the claimed window, as the mesh did.
+    """
+    left, right = ends[0] - end_step / 2, ends[-1] + end_step / 2
+    bottom, top = starts[0] - start_step / 2, starts[-1] + start_step / 2
+    image = ax.imshow(np.ma.masked_invalid(slopes), cmap=cmap, norm=norm, origin="lower", aspect="auto",
+                      interpolation="none", extent=(left, right, bottom, top))
+    ax.vlines(ends[:-1] + end_step / 2, bottom, top, colors=palette.PAPER, linewidth=0.3, zorder=0.5)
+    ax.hlines(starts[:-1] + start_step / 2, left, right, colors=palette.PAPER, linewidth=0.3, zorder=0.5)
+    ax.set_xlim(left, right)
+    ax.set_ylim(bottom, top)
+    return image
+
+
 @styled
 def _sensitivity_chart(doc: dict[str, Any]) -> Figure:
     rate = Rate.of(doc)
@@ -206,12 +230,15 @@ def _sensitivity_chart(doc: dict[str, Any]) -> Figure:
     ax = fig.add_subplot()
     ax.grid(False)
     cmap = palette.SLOPE_DIVERGING.with_extremes(bad="#ececec")
-    mesh = ax.pcolormesh(ends, starts, np.ma.masked_invalid(slopes), shading="nearest", cmap=cmap,
-                         norm=_centred_norm(slopes, rate.scaled(doc["long_term"].get("slope"))),
-                         edgecolors=palette.PAPER, linewidth=0.3)
+    norm = _centred_norm(slopes, rate.scaled(doc["long_term"].get("slope")))
     # The matrix is centred on the claimed window: its middle row and column.
     start_step = starts[1] - starts[0] if starts.size > 1 else 1.0
     end_step = ends[1] - ends[0] if ends.size > 1 else 1.0
+    if _evenly_spaced(starts, start_step) and _evenly_spaced(ends, end_step):
+        mesh = _cell_image(ax, ends, starts, slopes, end_step, start_step, cmap, norm)
+    else:
+        mesh = ax.pcolormesh(ends, starts, np.ma.masked_invalid(slopes), shading="nearest", cmap=cmap, norm=norm,
+                             edgecolors=palette.PAPER, linewidth=0.3)
     ax.add_patch(Rectangle((ends[ends.size // 2] - end_step / 2, starts[starts.size // 2] - start_step / 2),
                            end_step, start_step, fill=False, edgecolor=palette.INK, linewidth=2.2,
                            label="The claimed window"))

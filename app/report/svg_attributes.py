@@ -56,8 +56,11 @@ def declarations(text: str) -> list[tuple[str, str]]:
 
 
 def _attribute_text(pairs: list[tuple[str, str]]) -> str:
+    # A property declared twice (matplotlib's images: crisp-edges, then pixelated as the fallback CSS allows)
+    # keeps its last value, as in CSS; XML allows an attribute only once.
+    last = dict(pairs)
     # The values come from inside a double-quoted attribute (or a stylesheet with none): no '"' can be in them.
-    return "".join(f' {name}="{value.replace(chr(34), "&quot;")}"' for name, value in pairs)
+    return "".join(f' {name}="{value.replace(chr(34), "&quot;")}"' for name, value in last.items())
 
 
 def _without_attributes(tag: str, names: set[str]) -> str:

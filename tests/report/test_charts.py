@@ -135,3 +135,33 @@ def test_lines_break_where_values_are_missing():
     assert np.isnan(gap_t[3]) and np.isnan(gap_y[3]) and gap_t.size == 6
     whole_t, _ = broken_at_gaps(t[:3], y[:3])
     assert not np.isnan(whole_t).any()
+
+
+def test_the_sensitivity_cells_are_one_embedded_picture_on_an_even_grid(document):
+    # Hundreds of cells as one path each took a third of the report's drawing time.
+    svg = chart_file("audit-cells", document, "sensitivity", "inline")
+    root = ET.fromstring(svg)  # also fails on an attribute written twice
+    cherry = document["cherry_pick"]
+    grid = (str(len(cherry["end_times"])), str(len(cherry["start_times"])))
+    cells = [image for image in root.iter(f"{SVG_NS}image") if (image.get("width"), image.get("height")) == grid]
+    assert len(cells) == 1  # one pixel per window; the colour scale is the other picture
+    assert cells[0].get("{http://www.w3.org/1999/xlink}href").startswith("data:image/png;base64,")
+    assert cells[0].get("image-rendering") == "pixelated" and cells[0].get("style") is None
+
+
+def test_an_uneven_grid_of_windows_still_draws_each_cell_where_it_belongs(document):
+    cherry = document["cherry_pick"]
+    starts = cherry["start_times"]
+    even = chart_file("audit-even", document, "sensitivity", "inline")
+    cherry["start_times"] = starts[:-1] + [starts[-1] + 3 * (starts[-1] - starts[-2])]
+    uneven = chart_file("audit-uneven", document, "sensitivity", "inline")
+    assert uneven.count("<image") == even.count("<image") - 1  # the cells as a mesh, the colour scale as before
+    assert uneven.count("<path") > even.count("<path") + len(starts) * len(cherry["end_times"]) // 2
+    ET.fromstring(uneven)
+
+
+def test_a_property_declared_twice_becomes_one_attribute_with_the_last_value():
+    from app.report.svg_attributes import presentation_attributes
+
+    svg = presentation_attributes('<svg><image style="image-rendering:crisp-edges;image-rendering:pixelated"/></svg>')
+    assert svg == '<svg><image image-rendering="pixelated"/></svg>'
