@@ -162,7 +162,7 @@ def audit_document(result: AuditResult) -> dict[str, Any]:
                         "slopes": r.sensitivity.slopes, "claimed_slope": r.sensitivity.claimed_slope,
                         "claimed_rank_percentile": r.sensitivity.claimed_rank_percentile,
                         "endpoints": jsonable(r.endpoints)},
-        "detectability": {"years_to_detect": r.years_to_detect, "window_years": claim.end - claim.start,
+        "detectability": {"years_to_detect": r.years_to_detect, "window_years": r.verdict_inputs.window_years,
                           "power": r.window_power, "curve": [{"years": a, "power": b} for a, b in r.detect_curve]},
         "robustness": [jsonable(row) for row in r.robustness],
         "whole_record": jsonable(r.whole_record),
