@@ -20,6 +20,7 @@ from app.audit.result import Adjustment, AuditResult, RobustnessRow, WholeRecord
 from app.audit.verdict import VerdictInputs, decide, decide_code, format_rate
 from app.errors import ClaimError, Location
 from app.ingest.sampling import period_label
+from app.ingest.validate import check_window_in_series
 from app.ingest.series import Series
 from app.stats.adjust import Covariate, fit_covariates
 from app.stats.breaks import break_test, sup_f_tests
@@ -56,10 +57,7 @@ STREAMS = ("spell", "sup_f", "sup_f_broken", "segments", "segments_jump", "robus
 
 
 def _window_mask(series: Series, claim: Claim) -> np.ndarray:
-    if claim.end < series.start or claim.start > series.end:
-        raise ClaimError(f"the window {claim.start:g} to {claim.end:g} lies outside the data "
-                         f"({series.start:.4g} to {series.end:.4g})", location=Location(field="claim.start"),
-                         fix="Choose a window within the series' time range")
+    check_window_in_series(series, claim.start, claim.end)  # the same check the API and desk make on entry
     mask = window_mask(series, claim.start, claim.end)
     if int(mask.sum()) < MIN_WINDOW_POINTS:
         raise ClaimError(f"the window {claim.start:g} to {claim.end:g} holds {int(mask.sum())} data points; "
