@@ -47,6 +47,11 @@ class Settings(BaseSettings):
     compute_workers: int = 2
     compute_queue: int = 8
 
+    # Report charts: drawn on one background thread after each record is stored, and kept in the
+    # database, so a report opens without drawing. Past the queue a record's first view draws them.
+    draw_charts_ahead: bool = True
+    chart_queue: int = 32
+
     samples_dir: Path = PROJECT_ROOT / "sample_series"
 
     @field_validator("api_keys")

@@ -11,7 +11,10 @@ from app.settings import Settings
 
 @pytest.fixture
 def settings(tmp_path) -> Settings:
-    return Settings(database_url=f"sqlite:///{tmp_path / 'audits.sqlite3'}", api_keys="", default_simulations=300)
+    # Drawing each new audit's charts ahead is off here: most tests never open a report, and the drawing
+    # would only add CPU time; tests/api/test_chart_keeping.py turns it on and checks it.
+    return Settings(database_url=f"sqlite:///{tmp_path / 'audits.sqlite3'}", api_keys="", default_simulations=300,
+                    draw_charts_ahead=False)
 
 
 @pytest.fixture

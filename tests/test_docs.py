@@ -59,3 +59,11 @@ def test_precedence_list_covers_every_code():
 def test_developers_guide_names_every_package():
     for package in sorted(p.name for p in (ROOT / "app").iterdir() if p.is_dir() and (p / "__init__.py").exists()):
         assert f"app/{package}/" in DEVELOPERS, f"DEVELOPERS.md does not describe app/{package}/"
+
+
+def test_the_readme_settings_table_names_every_setting():
+    from app.settings import Settings
+
+    section = README.split("## Settings", 1)[1].split("\n## ", 1)[0]
+    named = set(re.findall(r"`TRENDAUDIT_([A-Z_]+)`", section))
+    assert named == {name.upper() for name in Settings.model_fields}

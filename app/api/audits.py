@@ -18,6 +18,7 @@ from app.api.schemas import AuditOut, AuditPage, AuditRequest
 from app.api.service import (AuditJob, audit_body, audit_links, audit_options, compute_document,
                              job_from_csv, job_from_json, list_page, make_claim, rename_fields, store_audit)
 from app.errors import InputError, Location, SeriesFormatError, UnsupportedMediaType
+from app.report.chart_sets import AUDIT_CHARTS
 from app.report.render import render_report
 from app.settings import Settings
 from app.store import AUDIT
@@ -156,6 +157,7 @@ async def create_audit(request: Request, runtime: Runtime = Depends(get_runtime)
     job = await job_from_request(request, runtime.settings)
     document = await runtime.pool.run(compute_document, job)
     record, owner_token = await run_in_threadpool(store_audit, runtime.audits, job, document)
+    runtime.draw_charts_ahead(record.id, document, AUDIT_CHARTS)
     body = audit_body(record, runtime.settings, owner_token=owner_token)
     return JSONResponse(body, status_code=201, headers={"Location": audit_links(record.id, runtime.settings)
                                                         ["report_url"]})
@@ -200,4 +202,5 @@ def audit_data(audit_id: str = AUDIT_ID, runtime: Runtime = Depends(get_runtime)
 def audit_report(audit_id: str = AUDIT_ID, runtime: Runtime = Depends(get_runtime)) -> HTMLResponse:
     record = runtime.audits.get(audit_id, kind=AUDIT)
     source = (record.input_document or {}).get("source")
-    return HTMLResponse(render_report(audit_body(record, runtime.settings), source=source))
+    return HTMLResponse(render_report(audit_body(record, runtime.settings), source=source,
+                                      shelf=runtime.chart_shelf(record.id)))

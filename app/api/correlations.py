@@ -16,6 +16,7 @@ from app.api.deps import get_runtime, require_api_key
 from app.api.runtime import Runtime
 from app.api.schemas import CorrelationOut, CorrelationPage, CorrelationRequest
 from app.api.service import list_page
+from app.report.chart_sets import CORRELATION_CHARTS
 from app.report.render import render_correlation_report
 from app.settings import Settings
 from app.store import CORRELATION
@@ -54,6 +55,7 @@ async def create_correlation(request: Request, runtime: Runtime = Depends(get_ru
     job = await run_in_threadpool(_job_from_json_bytes, await request.body(), runtime.settings)
     document = await runtime.pool.run(compute_correlation_document, job)
     record, owner_token = await run_in_threadpool(store_correlation, runtime.audits, job, document)
+    runtime.draw_charts_ahead(record.id, document, CORRELATION_CHARTS)
     body = correlation_body(record, runtime.settings, owner_token=owner_token)
     return JSONResponse(body, status_code=201, headers={"Location": body["report_url"]})
 
@@ -99,4 +101,5 @@ def correlation_data(correlation_id: str = CORRELATION_ID, runtime: Runtime = De
 def correlation_report(correlation_id: str = CORRELATION_ID, runtime: Runtime = Depends(get_runtime)) -> HTMLResponse:
     record = runtime.audits.get(correlation_id, kind=CORRELATION)
     source = (record.input_document or {}).get("source")
-    return HTMLResponse(render_correlation_report(correlation_body(record, runtime.settings), source=source))
+    return HTMLResponse(render_correlation_report(correlation_body(record, runtime.settings), source=source,
+                                                  shelf=runtime.chart_shelf(record.id)))

@@ -1,4 +1,5 @@
-"""What one server process holds: its settings, the database engine and repository, and the compute pool.
+"""What one server process holds: its settings, the database engine and repositories, the compute pool and the
+chart drawer.
 
 Built at start-up (the lifespan) and, should a test drive the app without running the lifespan,
 on first use. Holds no audit state of its own, so any number of processes can share one database.
@@ -9,12 +10,16 @@ from __future__ import annotations
 import logging
 import threading
 from dataclasses import dataclass
+from typing import Any
 
 from sqlalchemy import Engine
 
+from app.api.chart_drawing import ChartDrawer
 from app.api.pool import ComputePool
+from app.report.chart_cache import ChartShelf
+from app.report.chart_sets import ChartSet
 from app.settings import Settings
-from app.store import AuditRepository, make_engine, migrate
+from app.store import AuditRepository, ChartRepository, make_engine, migrate
 
 log = logging.getLogger("trendaudit")
 
@@ -24,10 +29,22 @@ class Runtime:
     settings: Settings
     engine: Engine
     audits: AuditRepository
+    charts: ChartRepository
     pool: ComputePool
+    drawer: ChartDrawer
+
+    def draw_charts_ahead(self, record_id: str, document: dict[str, Any], charts: ChartSet) -> None:
+        """After a record is stored: its charts are drawn in the background, so its report opens at once."""
+        self.drawer.submit(record_id, document, charts)
+
+    def chart_shelf(self, record_id: str) -> ChartShelf:
+        """Where a view of ``record_id`` finds its kept charts, once any drawing of them in flight has ended."""
+        self.drawer.settle(record_id)
+        return self.charts
 
     def close(self) -> None:
         self.pool.shutdown()
+        self.drawer.shutdown()
         self.engine.dispose()
 
 
@@ -37,9 +54,11 @@ def start_runtime(settings: Settings) -> Runtime:
     if not settings.api_key_list:
         log.warning("No API keys set (TRENDAUDIT_API_KEYS): creating, listing and deleting audits is open to "
                     "anyone who can reach this server")
-    return Runtime(settings=settings, engine=engine, audits=AuditRepository(engine),
+    charts = ChartRepository(engine)
+    return Runtime(settings=settings, engine=engine, audits=AuditRepository(engine), charts=charts,
                    pool=ComputePool(settings.compute_workers, settings.compute_queue,
-                                    settings.request_timeout_seconds))
+                                    settings.request_timeout_seconds),
+                   drawer=ChartDrawer(charts, settings.chart_queue, enabled=settings.draw_charts_ahead))
 
 
 class RuntimeHolder:

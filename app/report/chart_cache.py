@@ -1,26 +1,52 @@
-"""Rendered charts, kept per stored result: compute once, render once, serve many times.
+"""Rendered charts, kept per stored result: compute once, draw once, serve many times.
 
-A stored audit never changes (it can only be deleted), so the SVG drawn for a record id and a chart
-name stays right for as long as the process lives. The cache is a small LRU in memory, shared by
-the report pages and the chart downloads; a process that restarts simply draws again.
+A stored result never changes (it can only be deleted), so a chart drawn for a record id stays right
+for as long as the drawing code does. Drawing all of a report's charts costs a few hundred
+milliseconds of matplotlib, far more than templating the page, so charts are looked for in three
+places, cheapest first:
+
+1. a small LRU in this process (shared by the report pages and the chart downloads);
+2. a ``ChartShelf``: somewhere outside the process that keeps the labelled SVGs of each record
+   (the service passes the store's chart table; the report layer only knows the protocol);
+3. the document itself: the charts are drawn, then put on the shelf and in the LRU.
+
+What is kept is the labelled SVG of each chart (``figures.labelled_svg``); the inline form for the
+page and the standalone file for downloads are cheap rewrites of it. PNGs are drawn on request only.
+``CHART_RENDERER`` names the drawing code: a shelf hands back only charts drawn by the same one, so
+charts kept by an older release are drawn again rather than shown in an old style.
 """
 
 from __future__ import annotations
 
 import threading
 from collections import OrderedDict
+from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Protocol
 
 from markupsafe import Markup
 
+from app import __version__
 from app.errors import Location, NotFound
 from app.report.chart_sets import AUDIT_CHARTS, ChartSet
-from app.report.figures import inline_svg, png_bytes, standalone_svg
+from app.report.figures import as_inline, as_standalone, labelled_svg, png_bytes
 
-CACHE_ENTRIES = 600  # about 120 audits' worth of charts; an SVG is 20-150 kB
+# Bump when a chart's drawing changes without a release, so kept charts are drawn again.
+CHART_REVISION = 1
+CHART_RENDERER = f"{__version__}+charts{CHART_REVISION}"
+CACHE_ENTRIES = 600  # entries are a record's chart set or one chart file; an SVG is 20-150 kB
 FORMATS = ("inline", "svg", "png")
 MEDIA_TYPES = {"svg": "image/svg+xml", "png": "image/png"}
+
+
+class ChartShelf(Protocol):
+    """Keeps each record's labelled chart SVGs beyond this process (the service's store provides one)."""
+
+    def load(self, record_id: str, renderer: str) -> Mapping[str, str] | None:
+        """The charts kept for the record by ``renderer``, by name; None (or a partial set) if there are none."""
+
+    def keep(self, record_id: str, renderer: str, charts: Mapping[str, str]) -> None:
+        """Keeps the record's charts, replacing any drawn before; a record deleted meanwhile keeps nothing."""
 
 
 @dataclass(frozen=True)
@@ -63,6 +89,7 @@ _cache = _LRU(CACHE_ENTRIES)
 
 
 def clear_chart_cache() -> None:
+    """Forgets every chart this process drew or loaded (tests and benchmarks start cold with it)."""
     _cache.clear()
 
 
@@ -73,9 +100,38 @@ def check_chart_name(name: str, document: dict[str, Any], charts: ChartSet = AUD
                        fix="Use one of: " + ", ".join(names))
 
 
+def draw_charts(document: dict[str, Any], charts: ChartSet = AUDIT_CHARTS,
+                names: tuple[str, ...] | None = None) -> dict[str, str]:
+    """Draws the document's charts (or the ``names`` among them) as labelled SVGs, by name."""
+    drawn = {}
+    for name in charts.names(document) if names is None else names:
+        spec = charts.specs[name]
+        drawn[name] = labelled_svg(spec.build(document), name, spec.title(document), spec.description(document))
+    return drawn
+
+
+def prepared_charts(record_id: str, document: dict[str, Any], charts: ChartSet = AUDIT_CHARTS,
+                    shelf: ChartShelf | None = None) -> Mapping[str, str]:
+    """Every chart of the record as labelled SVG: from this process, else from the shelf, else drawn and kept."""
+    key = (charts.kind, record_id, "labelled")
+    cached = _cache.get(key)
+    if cached is not None:
+        return cached
+    names = charts.names(document)
+    kept = dict(shelf.load(record_id, CHART_RENDERER) or {}) if shelf is not None else {}
+    missing = tuple(name for name in names if name not in kept)
+    if missing:
+        kept.update(draw_charts(document, charts, missing))
+        if shelf is not None:
+            shelf.keep(record_id, CHART_RENDERER, {name: kept[name] for name in names})
+    prepared = {name: kept[name] for name in names}
+    _cache.put(key, prepared)
+    return prepared
+
+
 def chart_file(record_id: str, document: dict[str, Any], name: str, fmt: str,
-               charts: ChartSet = AUDIT_CHARTS) -> bytes | str:
-    """One chart as 'inline' SVG markup, a standalone 'svg' file or 'png' bytes, drawn at most once per process."""
+               charts: ChartSet = AUDIT_CHARTS, shelf: ChartShelf | None = None) -> bytes | str:
+    """One chart as 'inline' SVG markup, a standalone 'svg' file or 'png' bytes, drawn at most once."""
     check_chart_name(name, document, charts)
     if fmt not in FORMATS:
         raise NotFound(f"no chart format '{fmt[:10]}'", location=Location(field="format"), fix="Use .svg or .png")
@@ -83,18 +139,17 @@ def chart_file(record_id: str, document: dict[str, Any], name: str, fmt: str,
     cached = _cache.get(key)
     if cached is not None:
         return cached
-    spec = charts.specs[name]
-    figure = spec.build(document)
     if fmt == "png":
-        result: bytes | str = png_bytes(figure)
+        result: bytes | str = png_bytes(charts.specs[name].build(document))
     else:
-        make = inline_svg if fmt == "inline" else standalone_svg
-        result = make(figure, name, spec.title(document), spec.description(document))
+        labelled = prepared_charts(record_id, document, charts, shelf)[name]
+        result = as_inline(labelled) if fmt == "inline" else as_standalone(labelled)
     _cache.put(key, result)
     return result
 
 
-def chart_views(record_id: str, document: dict[str, Any], charts: ChartSet = AUDIT_CHARTS) -> tuple[ChartView, ...]:
+def chart_views(record_id: str, document: dict[str, Any], charts: ChartSet = AUDIT_CHARTS,
+                shelf: ChartShelf | None = None) -> tuple[ChartView, ...]:
     """Every chart the document has, ready to inline, with its download addresses."""
     views = []
     for name in charts.names(document):
@@ -103,6 +158,6 @@ def chart_views(record_id: str, document: dict[str, Any], charts: ChartSet = AUD
         views.append(ChartView(
             name=name, title=spec.title(document), caption=spec.caption(document),
             description=spec.description(document),
-            svg=Markup(chart_file(record_id, document, name, "inline", charts)), svg_url=f"{base}.svg",
+            svg=Markup(chart_file(record_id, document, name, "inline", charts, shelf)), svg_url=f"{base}.svg",
             png_url=f"{base}.png"))
     return tuple(views)

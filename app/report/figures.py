@@ -184,8 +184,12 @@ def _responsive(svg: str) -> str:
     return svg[:match.start()] + opening + svg[match.end():]
 
 
-def _labelled_svg(fig: Figure, name: str, title: str, description: str) -> str:
-    """The bare <svg> element: no prologue, no comments, labelled, with ids unique to this chart."""
+def labelled_svg(fig: Figure, name: str, title: str, description: str) -> str:
+    """The bare <svg> element: no prologue, no comments, labelled, with ids unique to this chart.
+
+    This is the form that is kept (in memory and in the store); the page's and the download's forms
+    are made from it by ``as_inline`` and ``as_standalone`` without drawing again.
+    """
     svg = _raw_svg(fig)
     svg = _PROLOGUE.sub("", svg, count=1)
     svg = _COMMENT.sub("", svg)
@@ -195,14 +199,22 @@ def _labelled_svg(fig: Figure, name: str, title: str, description: str) -> str:
     return presentation_attributes(_label(_prefix_ids(svg, prefix), prefix, title, description)).strip()
 
 
+def as_inline(labelled: str) -> str:
+    """A labelled chart as an <svg> element for an HTML page, scaled by CSS to its column."""
+    return _responsive(labelled)
+
+
+def as_standalone(labelled: str) -> str:
+    """A labelled chart as a downloadable .svg file at its drawn size, with its own title and description."""
+    return '<?xml version="1.0" encoding="utf-8" standalone="no"?>\n' + labelled + "\n"
+
+
 def inline_svg(fig: Figure, name: str, title: str, description: str) -> str:
-    """The chart as an <svg> element for an HTML page, scaled by CSS to its column."""
-    return _responsive(_labelled_svg(fig, name, title, description))
+    return as_inline(labelled_svg(fig, name, title, description))
 
 
 def standalone_svg(fig: Figure, name: str, title: str, description: str) -> str:
-    """The chart as a downloadable .svg file at its drawn size, with its own title and description."""
-    return '<?xml version="1.0" encoding="utf-8" standalone="no"?>\n' + _labelled_svg(fig, name, title, description) + "\n"
+    return as_standalone(labelled_svg(fig, name, title, description))
 
 
 def png_bytes(fig: Figure, dpi: int = PNG_DPI) -> bytes:

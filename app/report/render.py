@@ -19,7 +19,7 @@ from jinja2 import Environment, FileSystemLoader, StrictUndefined, select_autoes
 from app import __version__
 from app.report.adjusted_chart import ADJUSTED_CHART_NAME
 from app.report.adjustment_context import adjustment_view
-from app.report.chart_cache import ChartView, chart_views
+from app.report.chart_cache import ChartShelf, ChartView, chart_views
 from app.report.chart_sets import CORRELATION_CHARTS
 from app.report.charts import CHART_NAMES
 from app.report.context import ReportContext, report_context
@@ -79,19 +79,19 @@ class OwnerNotice:
     api_url: str  # the record's API address, for deleting it from a script
 
 
-def report_parts(audit: Any, *, source: Mapping[str, Any] | None = None,
-                 base_url: str = "") -> tuple[ReportContext, tuple[ChartView, ...]]:
+def report_parts(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
+                 shelf: ChartShelf | None = None) -> tuple[ReportContext, tuple[ChartView, ...]]:
     stored = stored_result(audit)
     context = report_context(audit_id=stored.id, title=stored.title, created_at=stored.created_at,
                              document=stored.document, source=dict(source or stored.source or {}), base_url=base_url,
                              permalink=stored.report_url)
-    return context, chart_views(stored.id, stored.document)
+    return context, chart_views(stored.id, stored.document, shelf=shelf)
 
 
 def report_values(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
-                  owner: OwnerNotice | None = None) -> dict[str, Any]:
+                  owner: OwnerNotice | None = None, shelf: ChartShelf | None = None) -> dict[str, Any]:
     """Everything report.html renders: the context, the adjustment when there is one, the charts in page order."""
-    context, charts = report_parts(audit, source=source, base_url=base_url)
+    context, charts = report_parts(audit, source=source, base_url=base_url, shelf=shelf)
     by_name = {chart.name: chart for chart in charts}
     adjusted_chart = by_name.get(ADJUSTED_CHART_NAME)
     evidence = tuple(by_name[name] for name in CHART_NAMES if name in by_name)
@@ -103,25 +103,26 @@ def report_values(audit: Any, *, source: Mapping[str, Any] | None = None, base_u
 
 
 def render_report(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
-                  owner: OwnerNotice | None = None) -> str:
+                  owner: OwnerNotice | None = None, shelf: ChartShelf | None = None) -> str:
     """The report page for one stored audit, as a complete HTML document; with ``owner``, the page just after
-    creating it, which shows the owner token once."""
-    return render_page("report.html", **report_values(audit, source=source, base_url=base_url, owner=owner))
+    creating it, which shows the owner token once. ``shelf`` is where its charts may already be kept."""
+    return render_page("report.html", **report_values(audit, source=source, base_url=base_url, owner=owner,
+                                                      shelf=shelf))
 
 
 def correlation_values(correlation: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
-                       owner: OwnerNotice | None = None) -> dict[str, Any]:
+                       owner: OwnerNotice | None = None, shelf: ChartShelf | None = None) -> dict[str, Any]:
     stored = stored_result(correlation)
     context = correlation_context(record_id=stored.id, title=stored.title, created_at=stored.created_at,
                                   document=stored.document, source=dict(source or stored.source or {}),
                                   base_url=base_url, permalink=stored.report_url)
-    charts = chart_views(stored.id, stored.document, CORRELATION_CHARTS)
+    charts = chart_views(stored.id, stored.document, CORRELATION_CHARTS, shelf)
     return {"report": context, "charts": charts, "noindex": True, "page_title": f"{context.title} - Trend Audit",
             "chart_numbers": {chart.name: number for number, chart in enumerate(charts, start=1)}, "owner": owner}
 
 
 def render_correlation_report(correlation: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
-                              owner: OwnerNotice | None = None) -> str:
+                              owner: OwnerNotice | None = None, shelf: ChartShelf | None = None) -> str:
     """The report page for one stored driver-response correlation audit, from its record or the API's body."""
     return render_page("correlation.html", **correlation_values(correlation, source=source, base_url=base_url,
-                                                                owner=owner))
+                                                                owner=owner, shelf=shelf))

@@ -8,6 +8,8 @@ power cut, not only a killed process). Transactions are begun by hand so a write
 from __future__ import annotations
 
 import json
+import sqlite3
+import time
 from pathlib import Path
 from typing import Any
 
@@ -59,7 +61,7 @@ def _configure_sqlite(engine: Engine) -> None:
         # Let SQLAlchemy's "begin" event below issue BEGIN instead of the driver's implicit one.
         dbapi_connection.isolation_level = None
         cursor = dbapi_connection.cursor()
-        cursor.execute("PRAGMA journal_mode=WAL")
+        _switch_to_wal(cursor)
         cursor.execute("PRAGMA synchronous=FULL")
         cursor.execute("PRAGMA foreign_keys=ON")
         cursor.execute(f"PRAGMA busy_timeout={int(SQLITE_BUSY_TIMEOUT_SECONDS * 1000)}")
@@ -69,6 +71,23 @@ def _configure_sqlite(engine: Engine) -> None:
     def _on_begin(connection) -> None:
         mode = connection.get_execution_options().get(BEGIN_MODE_OPTION, "DEFERRED")
         connection.exec_driver_sql(f"BEGIN {mode}")
+
+
+def _switch_to_wal(cursor) -> None:
+    # A new, still empty file records WAL only with its first write; a connection opened while another
+    # makes that write (several processes starting on one new database) gets "database is locked" at
+    # once, without SQLite's busy wait. Trying again shortly after is all it takes.
+    deadline = time.monotonic() + SQLITE_BUSY_TIMEOUT_SECONDS
+    delay = 0.005
+    while True:
+        try:
+            cursor.execute("PRAGMA journal_mode=WAL")
+            return
+        except sqlite3.OperationalError as error:
+            if "locked" not in str(error) or time.monotonic() + delay > deadline:
+                raise
+            time.sleep(delay)
+            delay = min(delay * 2, 0.2)
 
 
 def write_options(engine: Engine) -> dict[str, str]:

@@ -56,6 +56,22 @@ def _v1_audits(connection: Connection) -> None:
     metadata.create_all(connection)
 
 
+def _v2_charts(connection: Connection) -> None:
+    # Drawn charts, kept beside the record they picture so a report view only fills in its template.
+    # A cache, not a result: the record alone can always draw them again. Deleting the record
+    # deletes its charts (ON DELETE CASCADE; SQLite enforces it with PRAGMA foreign_keys=ON).
+    metadata = sa.MetaData()
+    sa.Table("audits", metadata, sa.Column("id", sa.String(64), primary_key=True))  # only for the reference
+    sa.Table(
+        "charts", metadata,
+        sa.Column("record_id", sa.String(64), sa.ForeignKey("audits.id", ondelete="CASCADE"), primary_key=True),
+        sa.Column("name", sa.String(40), primary_key=True),
+        sa.Column("renderer", sa.String(64), nullable=False),
+        sa.Column("svg", sa.Text, nullable=False),
+    )
+    metadata.tables["charts"].create(connection)
+
+
 @dataclass(frozen=True)
 class Migration:
     version: int
@@ -65,6 +81,7 @@ class Migration:
 
 MIGRATIONS: tuple[Migration, ...] = (
     Migration(1, "audits table: inputs, seed, version, result, owner token hash", _v1_audits),
+    Migration(2, "charts table: each record's drawn charts, deleted with it", _v2_charts),
 )
 
 

@@ -14,6 +14,7 @@ from app.report.chart_cache import MEDIA_TYPES, chart_file
 from app.report.chart_sets import AUDIT_CHARTS, CORRELATION_CHARTS, ChartSet
 from app.settings import PROJECT_ROOT
 from app.store import AUDIT, CORRELATION
+from app.web.responses import runtime_of
 
 router = APIRouter(include_in_schema=False)
 
@@ -41,8 +42,9 @@ def _chart_response(request: Request, record_id: str, filename: str, kind: str, 
         raise NotFound(f"no chart file '{filename[:60]}'", location=Location(field="chart"),
                        fix="Ask for NAME.svg or NAME.png, e.g. series.svg")
     name, fmt = match.groups()
-    record = request.app.state.runtime.get().audits.get(record_id, kind=kind)
-    body = chart_file(record.id, record.result_document, name, fmt, charts)
+    runtime = runtime_of(request)
+    record = runtime.audits.get(record_id, kind=kind)
+    body = chart_file(record.id, record.result_document, name, fmt, charts, runtime.chart_shelf(record.id))
     return Response(body, media_type=MEDIA_TYPES[fmt], headers={
         "Content-Disposition": f'inline; filename="trendaudit-{record.id}-{name}.{fmt}"',
         "Cache-Control": "public, max-age=86400"})  # security headers: app.security, on every answer

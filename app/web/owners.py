@@ -60,13 +60,15 @@ def created_redirect(request: Request, collection: Collection, record_id: str, o
 
 async def _created_page(request: Request, collection: Collection, record_id: str) -> Response:
     settings: Settings = request.app.state.settings
-    record = await run_in_threadpool(runtime_of(request).audits.get, record_id, collection.kind)
+    runtime = runtime_of(request)
+    record = await run_in_threadpool(runtime.audits.get, record_id, collection.kind)
     token = (request.cookies.get(CREATED_COOKIE) or "")[:MAX_TOKEN_CHARS]
     if not token:  # already shown, or opened from somewhere else: the report is all there is to see
         return RedirectResponse(collection.report(record.id), status_code=303)
     notice = OwnerNotice(token=token, noun=collection.noun, api_url=f"{collection.api_path}/{record.id}")
     render = render_correlation_report if collection is CORRELATIONS else render_report
-    body = await run_in_threadpool(lambda: render(record, base_url=settings.public_base_url, owner=notice))
+    body = await run_in_threadpool(lambda: render(record, base_url=settings.public_base_url, owner=notice,
+                                                  shelf=runtime.chart_shelf(record.id)))
     response = html_response(body, headers=NO_STORE)
     response.delete_cookie(CREATED_COOKIE, path=f"{collection.report(record.id)}/created", httponly=True,
                            samesite="strict", secure=is_secure(request))

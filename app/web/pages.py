@@ -19,7 +19,7 @@ from app.api.limits import check_string_lengths
 from app.api.service import audit_options, compute_document, job_from_csv, series_payload, store_audit
 from app.audit import Claim
 from app.errors import AccessDenied, InputError, TrendAuditError
-from app.report.chart_cache import chart_views
+from app.report.chart_cache import prepared_charts
 from app.report.chart_sets import AUDIT_CHARTS, ChartSet
 from app.settings import Settings
 from app.web.access import (check_key, forget_key, has_access, keys_required, remember_key, require_access,
@@ -128,8 +128,8 @@ async def run_desk_form(request: Request, *, check: str, make_job: Callable, com
         record, owner_token = await run_in_threadpool(store, runtime.audits, job, document)
     except TrendAuditError as error:
         return await preview_page(request, form, problem=problem_view(error))
-    # Draw the report's charts now, while the person waits anyway, so the report itself opens at once.
-    await run_in_threadpool(chart_views, record.id, document, charts)
+    # Draw the report's charts now, while the person waits anyway, and keep them, so the report opens at once.
+    await run_in_threadpool(prepared_charts, record.id, document, charts, runtime.charts)
     return created_redirect(request, collection, record.id, owner_token)
 
 

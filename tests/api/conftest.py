@@ -51,8 +51,9 @@ def csv_text(series: dict[str, list] | None = None) -> str:
 @pytest.fixture
 def make_settings(tmp_path) -> Callable[..., Settings]:
     def make(database_url: str, **overrides: Any) -> Settings:
+        # Charts are drawn ahead only where a test asks (test_chart_keeping.py): elsewhere it is CPU time only.
         fields = dict(database_url=database_url, api_keys="", default_simulations=TEST_SIMULATIONS,
-                      compute_workers=2, compute_queue=4)
+                      compute_workers=2, compute_queue=4, draw_charts_ahead=False)
         fields.update(overrides)
         return Settings(**fields)
 
