@@ -38,22 +38,32 @@ class ComputePool:
         self._slots = threading.BoundedSemaphore(self.capacity)
         self._lock = threading.Lock()
         self._in_use = 0
+        self._idle = threading.Event()
+        self._idle.set()
 
     @property
     def in_use(self) -> int:
         """Tasks running or waiting, including timed-out ones still finishing."""
         return self._in_use
 
+    def wait_idle(self, timeout: float) -> bool:
+        """Waits up to ``timeout`` seconds for a moment with no task running or waiting; True if there is one.
+        Background work (drawing charts ahead) asks this first, so it never slows an audit someone waits for."""
+        return self._idle.wait(timeout)
+
     def _take(self) -> bool:
         if not self._slots.acquire(blocking=False):
             return False
         with self._lock:
             self._in_use += 1
+            self._idle.clear()
         return True
 
     def _give_back(self, _future=None) -> None:
         with self._lock:
             self._in_use -= 1
+            if self._in_use == 0:
+                self._idle.set()
         self._slots.release()
 
     async def run(self, function: Callable[..., T], *args) -> T:

@@ -55,10 +55,10 @@ def start_runtime(settings: Settings) -> Runtime:
         log.warning("No API keys set (TRENDAUDIT_API_KEYS): creating, listing and deleting audits is open to "
                     "anyone who can reach this server")
     charts = ChartRepository(engine)
-    return Runtime(settings=settings, engine=engine, audits=AuditRepository(engine), charts=charts,
-                   pool=ComputePool(settings.compute_workers, settings.compute_queue,
-                                    settings.request_timeout_seconds),
-                   drawer=ChartDrawer(charts, settings.chart_queue, enabled=settings.draw_charts_ahead))
+    pool = ComputePool(settings.compute_workers, settings.compute_queue, settings.request_timeout_seconds)
+    return Runtime(settings=settings, engine=engine, audits=AuditRepository(engine), charts=charts, pool=pool,
+                   drawer=ChartDrawer(charts, settings.chart_queue, enabled=settings.draw_charts_ahead,
+                                      wait_idle=pool.wait_idle))
 
 
 class RuntimeHolder:

@@ -36,7 +36,7 @@ def _stored_audit(client: TestClient, make_series) -> tuple[str, dict]:
     document = compute_document(job)
     record, _ = store_audit(runtime.audits, job, document)
     runtime.draw_charts_ahead(record.id, document, AUDIT_CHARTS)
-    runtime.drawer.wait_idle()
+    runtime.drawer.wait_until_drawn()
     return record.id, document
 
 

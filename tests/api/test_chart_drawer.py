@@ -1,4 +1,4 @@
-"""The background chart drawer: bounded, never drawing twice, giving way to a view, failing quietly."""
+"""The background chart drawer: bounded, idle-time only, giving way to a view, failing quietly."""
 
 from __future__ import annotations
 
@@ -10,104 +10,159 @@ import pytest
 
 from app.api import chart_drawing
 from app.api.chart_drawing import ChartDrawer
+from app.api.pool import ComputePool
+from app.report.chart_cache import CHART_RENDERER
 from app.report.chart_sets import AUDIT_CHARTS
+from app.report.charts import CHART_NAMES
 
 
-class Gate:
-    """Stands in for the drawing: records which records were drawn and holds each until released."""
+class Shelf:
+    def __init__(self) -> None:
+        self.kept: dict[str, dict[str, str]] = {}
+
+    def load(self, record_id, renderer):
+        return dict(self.kept.get((record_id, renderer), {}))
+
+    def keep(self, record_id, renderer, charts):
+        self.kept[(record_id, renderer)] = dict(charts)
+
+
+class Pen:
+    """Stands in for matplotlib: each chart waits for ``release``, then is an SVG naming its record."""
 
     def __init__(self) -> None:
-        self.drawn: list[str] = []
+        self.drawn: list[tuple[str, str]] = []
         self.started = threading.Event()
         self.release = threading.Event()
 
-    def __call__(self, record_id, document, charts, shelf) -> None:
+    def __call__(self, document, charts, names):
         self.started.set()
         if not self.release.wait(10):
             raise RuntimeError("never released")
         if document.get("broken"):
             raise ValueError("cannot draw this one")
-        self.drawn.append(record_id)
+        self.drawn += [(document["id"], name) for name in names]
+        return {name: f"<svg>{document['id']} {name}</svg>" for name in names}
 
 
 @pytest.fixture
-def gate(monkeypatch) -> Gate:
-    gate = Gate()
-    monkeypatch.setattr(chart_drawing, "prepared_charts", gate)
-    return gate
+def pen(monkeypatch) -> Pen:
+    pen = Pen()
+    monkeypatch.setattr(chart_drawing, "draw_charts", pen)
+    return pen
 
 
 @pytest.fixture
-def drawer():
-    drawer = ChartDrawer(shelf=None, queue=2)
+def shelf() -> Shelf:
+    return Shelf()
+
+
+@pytest.fixture
+def drawer(shelf):
+    drawer = ChartDrawer(shelf, queue=2)
     yield drawer
     drawer.shutdown()
 
 
-def test_the_queue_is_bounded_and_what_does_not_fit_is_left_to_the_first_view(gate, drawer):
-    assert drawer.submit("a", {}, AUDIT_CHARTS)
-    assert gate.started.wait(5)
-    assert drawer.submit("b", {}, AUDIT_CHARTS)
-    assert not drawer.submit("c", {}, AUDIT_CHARTS)  # "a" drawing, "b" waiting: the queue of 2 is full
+def doc(record_id: str, **extra) -> dict:
+    return {"id": record_id, **extra}
+
+
+def records_drawn(pen: Pen) -> list[str]:
+    return list(dict.fromkeys(record for record, _name in pen.drawn))
+
+
+def test_every_chart_is_drawn_and_kept_under_the_current_renderer(pen, shelf, drawer):
+    pen.release.set()
+    assert drawer.submit("a", doc("a"), AUDIT_CHARTS)
+    drawer.wait_until_drawn()
+    assert set(shelf.load("a", CHART_RENDERER)) == set(CHART_NAMES)
+
+
+def test_the_queue_is_bounded_and_what_does_not_fit_is_left_to_the_first_view(pen, drawer):
+    assert drawer.submit("a", doc("a"), AUDIT_CHARTS)
+    assert pen.started.wait(5)
+    assert drawer.submit("b", doc("b"), AUDIT_CHARTS)
+    assert not drawer.submit("c", doc("c"), AUDIT_CHARTS)  # "a" drawing, "b" waiting: the queue of 2 is full
     assert drawer.skipped == 1
-    gate.release.set()
-    drawer.wait_idle()
-    assert gate.drawn == ["a", "b"]
-    assert drawer.submit("d", {}, AUDIT_CHARTS)  # room again once they are done
-    drawer.wait_idle()
-    assert gate.drawn == ["a", "b", "d"]
+    pen.release.set()
+    drawer.wait_until_drawn()
+    assert records_drawn(pen) == ["a", "b"]
+    assert drawer.submit("d", doc("d"), AUDIT_CHARTS)  # room again once they are done
+    drawer.wait_until_drawn()
+    assert records_drawn(pen) == ["a", "b", "d"]
 
 
-def test_a_view_takes_over_a_drawing_still_queued(gate, drawer):
-    drawer.submit("a", {}, AUDIT_CHARTS)
-    assert gate.started.wait(5)
-    drawer.submit("b", {}, AUDIT_CHARTS)
+def test_a_view_takes_over_a_drawing_still_queued(pen, drawer):
+    drawer.submit("a", doc("a"), AUDIT_CHARTS)
+    assert pen.started.wait(5)
+    drawer.submit("b", doc("b"), AUDIT_CHARTS)
     began = time.monotonic()
     drawer.settle("b")  # "b" has not started: cancelled, so the view draws it itself at once
     assert time.monotonic() - began < 1.0
-    gate.release.set()
-    drawer.wait_idle()
-    assert gate.drawn == ["a"]
+    pen.release.set()
+    drawer.wait_until_drawn()
+    assert records_drawn(pen) == ["a"]
 
 
-def test_a_view_waits_for_a_drawing_under_way_instead_of_drawing_twice(gate, drawer):
-    drawer.submit("a", {}, AUDIT_CHARTS)
-    assert gate.started.wait(5)
-    threading.Timer(0.3, gate.release.set).start()
+def test_a_view_stops_a_drawing_under_way_at_the_next_chart_and_what_was_drawn_is_kept(pen, shelf, drawer):
+    drawer.submit("a", doc("a"), AUDIT_CHARTS)
+    assert pen.started.wait(5)
+    threading.Timer(0.3, pen.release.set).start()
     began = time.monotonic()
-    drawer.settle("a")
+    drawer.settle("a")  # returns once the chart being drawn is done
     assert time.monotonic() - began >= 0.25
-    assert gate.drawn == ["a"]
+    assert pen.drawn == [("a", CHART_NAMES[0])]
+    assert shelf.load("a", CHART_RENDERER) == {CHART_NAMES[0]: f"<svg>a {CHART_NAMES[0]}</svg>"}
 
 
-def test_settling_a_record_never_queued_returns_at_once(gate, drawer):
-    began = time.monotonic()
-    drawer.settle("unknown")
-    assert time.monotonic() - began < 0.1
+def test_charts_a_view_already_kept_are_not_drawn_again(pen, shelf, drawer):
+    shelf.keep("a", CHART_RENDERER, {name: "<svg>by a view</svg>" for name in CHART_NAMES})
+    pen.release.set()
+    drawer.submit("a", doc("a"), AUDIT_CHARTS)
+    drawer.wait_until_drawn()
+    assert pen.drawn == []
 
 
-def test_a_drawing_that_fails_is_logged_and_forgotten(gate, drawer, caplog):
-    gate.release.set()
+def test_drawing_waits_while_audits_are_computing_and_resumes_when_the_pool_is_idle(pen, shelf):
+    pool = ComputePool(workers=1, queue=1, timeout_seconds=30)
+    drawer = ChartDrawer(shelf, queue=4, wait_idle=pool.wait_idle)
+    pen.release.set()
+    assert pool._take()  # an audit is running
+    try:
+        drawer.submit("a", doc("a"), AUDIT_CHARTS)
+        time.sleep(0.6)
+        assert pen.drawn == []  # nothing drawn while the audit runs
+    finally:
+        pool._give_back()
+    drawer.wait_until_drawn()
+    assert [name for _record, name in pen.drawn] == list(CHART_NAMES)
+    drawer.shutdown()
+    pool.shutdown()
+
+
+def test_a_drawing_that_fails_is_logged_and_forgotten(pen, drawer, caplog):
+    pen.release.set()
     with caplog.at_level(logging.ERROR, logger="trendaudit"):
-        assert drawer.submit("x", {"broken": True}, AUDIT_CHARTS)
-        drawer.wait_idle()
+        assert drawer.submit("x", doc("x", broken=True), AUDIT_CHARTS)
+        drawer.wait_until_drawn()
     assert "drawing the charts of x" in caplog.text
-    assert drawer.submit("y", {}, AUDIT_CHARTS) and drawer.submit("z", {}, AUDIT_CHARTS)  # nothing left pending
+    assert drawer.submit("y", doc("y"), AUDIT_CHARTS) and drawer.submit("z", doc("z"), AUDIT_CHARTS)  # none pending
 
 
-def test_when_switched_off_nothing_is_queued(gate):
-    drawer = ChartDrawer(shelf=None, queue=8, enabled=False)
-    assert not drawer.submit("a", {}, AUDIT_CHARTS)
-    assert not ChartDrawer(shelf=None, queue=0).submit("a", {}, AUDIT_CHARTS)
+def test_when_switched_off_nothing_is_queued(pen, shelf):
+    drawer = ChartDrawer(shelf, queue=8, enabled=False)
+    assert not drawer.submit("a", doc("a"), AUDIT_CHARTS)
+    assert not ChartDrawer(shelf, queue=0).submit("a", doc("a"), AUDIT_CHARTS)
     drawer.shutdown()
 
 
-def test_shutting_down_drops_queued_drawings_and_refuses_new_ones(gate):
-    drawer = ChartDrawer(shelf=None, queue=4)
-    drawer.submit("a", {}, AUDIT_CHARTS)
-    assert gate.started.wait(5)
-    drawer.submit("b", {}, AUDIT_CHARTS)
-    threading.Timer(0.2, gate.release.set).start()
-    drawer.shutdown()  # lets "a" finish, drops "b"
-    assert gate.drawn == ["a"]
-    assert not drawer.submit("c", {}, AUDIT_CHARTS)
+def test_shutting_down_drops_queued_drawings_stops_the_one_under_way_and_refuses_new_ones(pen, shelf):
+    drawer = ChartDrawer(shelf, queue=4)
+    drawer.submit("a", doc("a"), AUDIT_CHARTS)
+    assert pen.started.wait(5)
+    drawer.submit("b", doc("b"), AUDIT_CHARTS)
+    threading.Timer(0.2, pen.release.set).start()
+    drawer.shutdown()  # "a" stops after the chart it is drawing; "b" never starts
+    assert pen.drawn == [("a", CHART_NAMES[0])]
+    assert not drawer.submit("c", doc("c"), AUDIT_CHARTS)

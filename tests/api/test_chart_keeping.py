@@ -55,7 +55,7 @@ def create(client, path="/api/v1/audits", body=None):
 def test_a_new_audits_charts_are_drawn_ahead_and_kept(make_client, kept, monkeypatch):
     client = make_client(draw_charts_ahead=True)
     audit = create(client)
-    runtime_of(client).drawer.wait_idle()
+    runtime_of(client).drawer.wait_until_drawn()
     assert set(kept.load(audit["id"], CHART_RENDERER)) == set(CHART_NAMES)
     clear_chart_cache()
     no_drawing(monkeypatch)
@@ -70,7 +70,7 @@ def test_charts_kept_ahead_equal_charts_drawn_from_the_stored_record(make_client
     # Drawn ahead from the document in memory; a view would draw from the stored copy (after a JSON round trip).
     client = make_client(draw_charts_ahead=True)
     audit = create(client)
-    runtime_of(client).drawer.wait_idle()
+    runtime_of(client).drawer.wait_until_drawn()
     stored = client.get(f"/api/v1/audits/{audit['id']}").json()
     assert kept.load(audit["id"], CHART_RENDERER) == draw_charts(stored, AUDIT_CHARTS)
 
@@ -101,7 +101,7 @@ def test_charts_kept_by_another_renderer_are_drawn_again_and_replaced(make_clien
 def test_deleting_an_audit_deletes_its_kept_charts(make_client, kept):
     client = make_client(draw_charts_ahead=True)
     audit = create(client)
-    runtime_of(client).drawer.wait_idle()
+    runtime_of(client).drawer.wait_until_drawn()
     assert kept.count(audit["id"]) == len(CHART_NAMES)
     response = client.delete(f"/api/v1/audits/{audit['id']}", headers={"X-Owner-Token": audit["owner_token"]})
     assert response.status_code == 204
@@ -122,7 +122,7 @@ def test_charts_kept_for_a_record_deleted_meanwhile_are_dropped_quietly(make_cli
 def test_a_correlation_audits_charts_are_kept_too(make_client, kept, monkeypatch):
     client = make_client(draw_charts_ahead=True)
     record = create(client, "/api/v1/correlations", correlation_request())
-    runtime_of(client).drawer.wait_idle()
+    runtime_of(client).drawer.wait_until_drawn()
     assert set(kept.load(record["id"], CHART_RENDERER)) == set(CORRELATION_CHART_NAMES)
     stored = client.get(f"/api/v1/correlations/{record['id']}").json()
     assert kept.load(record["id"], CHART_RENDERER) == draw_charts(stored, CORRELATION_CHARTS)
