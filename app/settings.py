@@ -50,7 +50,7 @@ class Settings(BaseSettings):
     # Report charts: drawn on one background thread after each record is stored, and kept in the
     # database, so a report opens without drawing. Past the queue a record's first view draws them.
     draw_charts_ahead: bool = True
-    chart_queue: int = 32
+    chart_queue: int = 1_000  # record ids only: the drawer reads each record when its turn comes
 
     samples_dir: Path = PROJECT_ROOT / "sample_series"
 

@@ -6,8 +6,9 @@ charts are drawn once, after the record is stored, on one background thread, and
 again before each chart: under a stream of audit requests it waits, so it never takes time from an
 audit somebody is waiting for (measured: drawing at once, whatever the load, cut the service's
 throughput under 16 clients from about 10 to 6 audits a second). The queue of records waiting to be
-drawn is bounded; past it a record is simply not drawn ahead, and its first view draws (and keeps)
-the charts itself.
+drawn holds only their ids (the drawer reads each record from the store when its turn comes), so a
+batch of hundreds of audits is drawn once the batch is over; past the bound a record is simply not
+drawn ahead, and its first view draws (and keeps) the charts itself.
 
 A view that arrives while its record is still queued takes the work over (the queued job is
 cancelled); one that arrives while the drawing is under way stops it at the next chart, keeps what
@@ -24,6 +25,7 @@ from concurrent.futures import TimeoutError as FutureTimeout
 from dataclasses import dataclass, field
 from typing import Any
 
+from app.errors import NotFound
 from app.report.chart_cache import CHART_RENDERER, ChartShelf, draw_charts
 from app.report.chart_sets import ChartSet
 
@@ -40,16 +42,17 @@ def _always_idle(_timeout: float) -> bool:
 @dataclass
 class _Job:
     record_id: str
-    document: dict[str, Any]
     charts: ChartSet
     taken_over: threading.Event = field(default_factory=threading.Event)
 
 
 class ChartDrawer:
-    def __init__(self, shelf: ChartShelf, queue: int, enabled: bool = True,
+    def __init__(self, shelf: ChartShelf, read: Callable[[str], dict[str, Any]], queue: int, enabled: bool = True,
                  wait_idle: Callable[[float], bool] = _always_idle) -> None:
-        """``wait_idle(seconds)`` waits up to that long for the compute pool to be idle and says whether it is."""
+        """``read(record_id)`` gives the stored record's result document (raising NotFound once it is deleted);
+        ``wait_idle(seconds)`` waits up to that long for the compute pool to be idle and says whether it is."""
         self.shelf = shelf
+        self._read = read
         self.queue = queue
         self.enabled = enabled and queue > 0
         self._wait_idle = wait_idle
@@ -58,11 +61,12 @@ class ChartDrawer:
         self._lock = threading.Lock()
         self.skipped = 0  # records not drawn ahead because the queue was full
 
-    def submit(self, record_id: str, document: dict[str, Any], charts: ChartSet) -> bool:
-        """Queues the record's charts to be drawn and kept; False when drawing ahead is off or the queue is full."""
+    def submit(self, record_id: str, charts: ChartSet) -> bool:
+        """Queues the stored record's charts to be drawn and kept; False when drawing ahead is off or the queue
+        is full."""
         if not self.enabled:
             return False
-        job = _Job(record_id, document, charts)
+        job = _Job(record_id, charts)
         with self._lock:
             if len(self._pending) >= self.queue:
                 self.skipped += 1
@@ -77,7 +81,10 @@ class ChartDrawer:
 
     def _draw(self, job: _Job) -> None:
         try:
-            names = job.charts.names(job.document)
+            if not self._when_idle(job):
+                return
+            document = self._read(job.record_id)
+            names = job.charts.names(document)
             kept = dict(self.shelf.load(job.record_id, CHART_RENDERER) or {})
             drawn = {name: kept[name] for name in names if name in kept}  # a view may have drawn them already
             for name in names:
@@ -85,9 +92,11 @@ class ChartDrawer:
                     continue
                 if not self._when_idle(job):
                     break
-                drawn.update(draw_charts(job.document, job.charts, (name,)))
+                drawn.update(draw_charts(document, job.charts, (name,)))
             if drawn and drawn != kept:
                 self.shelf.keep(job.record_id, CHART_RENDERER, drawn)
+        except NotFound:
+            pass  # deleted before its turn came: nothing to draw
         except Exception:  # a chart that cannot be drawn will say so, clearly, when its report is viewed
             log.exception("drawing the charts of %s ahead of its first view failed", job.record_id)
 

@@ -55,7 +55,7 @@ async def create_correlation(request: Request, runtime: Runtime = Depends(get_ru
     job = await run_in_threadpool(_job_from_json_bytes, await request.body(), runtime.settings)
     document = await runtime.pool.run(compute_correlation_document, job)
     record, owner_token = await run_in_threadpool(store_correlation, runtime.audits, job, document)
-    runtime.draw_charts_ahead(record.id, document, CORRELATION_CHARTS)
+    runtime.draw_charts_ahead(record.id, CORRELATION_CHARTS)
     body = correlation_body(record, runtime.settings, owner_token=owner_token)
     return JSONResponse(body, status_code=201, headers={"Location": body["report_url"]})
 

@@ -10,7 +10,6 @@ from __future__ import annotations
 import logging
 import threading
 from dataclasses import dataclass
-from typing import Any
 
 from sqlalchemy import Engine
 
@@ -33,9 +32,9 @@ class Runtime:
     pool: ComputePool
     drawer: ChartDrawer
 
-    def draw_charts_ahead(self, record_id: str, document: dict[str, Any], charts: ChartSet) -> None:
+    def draw_charts_ahead(self, record_id: str, charts: ChartSet) -> None:
         """After a record is stored: its charts are drawn in the background, so its report opens at once."""
-        self.drawer.submit(record_id, document, charts)
+        self.drawer.submit(record_id, charts)
 
     def chart_shelf(self, record_id: str) -> ChartShelf:
         """Where a view of ``record_id`` finds its kept charts, once any drawing of them in flight has ended."""
@@ -54,11 +53,11 @@ def start_runtime(settings: Settings) -> Runtime:
     if not settings.api_key_list:
         log.warning("No API keys set (TRENDAUDIT_API_KEYS): creating, listing and deleting audits is open to "
                     "anyone who can reach this server")
-    charts = ChartRepository(engine)
+    audits, charts = AuditRepository(engine), ChartRepository(engine)
     pool = ComputePool(settings.compute_workers, settings.compute_queue, settings.request_timeout_seconds)
-    return Runtime(settings=settings, engine=engine, audits=AuditRepository(engine), charts=charts, pool=pool,
-                   drawer=ChartDrawer(charts, settings.chart_queue, enabled=settings.draw_charts_ahead,
-                                      wait_idle=pool.wait_idle))
+    drawer = ChartDrawer(charts, lambda record_id: audits.get(record_id).result_document, settings.chart_queue,
+                         enabled=settings.draw_charts_ahead, wait_idle=pool.wait_idle)
+    return Runtime(settings=settings, engine=engine, audits=audits, charts=charts, pool=pool, drawer=drawer)
 
 
 class RuntimeHolder:

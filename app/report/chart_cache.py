@@ -19,6 +19,7 @@ charts kept by an older release are drawn again rather than shown in an old styl
 from __future__ import annotations
 
 import threading
+import weakref
 from collections import OrderedDict
 from collections.abc import Mapping
 from dataclasses import dataclass
@@ -85,7 +86,29 @@ class _LRU:
             self._items.clear()
 
 
+class _OneAtATime:
+    """A lock per key, so views of the same record arriving together draw its charts once, not once each."""
+
+    class _KeyLock:
+        __slots__ = ("lock", "__weakref__")
+
+        def __init__(self) -> None:
+            self.lock = threading.Lock()
+
+    def __init__(self) -> None:
+        self._locks: weakref.WeakValueDictionary = weakref.WeakValueDictionary()
+        self._guard = threading.Lock()
+
+    def lock_for(self, key: tuple) -> "_OneAtATime._KeyLock":
+        with self._guard:
+            holder = self._locks.get(key)
+            if holder is None:
+                holder = self._locks[key] = self._KeyLock()
+            return holder
+
+
 _cache = _LRU(CACHE_ENTRIES)
+_drawing = _OneAtATime()
 
 
 def clear_chart_cache() -> None:
@@ -117,6 +140,14 @@ def prepared_charts(record_id: str, document: dict[str, Any], charts: ChartSet =
     cached = _cache.get(key)
     if cached is not None:
         return cached
+    holder = _drawing.lock_for(key)  # held in a local, so the lock lives as long as someone uses it
+    with holder.lock:
+        cached = _cache.get(key)  # drawn by the view that held the lock before us
+        return cached if cached is not None else _load_or_draw(key, record_id, document, charts, shelf)
+
+
+def _load_or_draw(key: tuple, record_id: str, document: dict[str, Any], charts: ChartSet,
+                  shelf: ChartShelf | None) -> Mapping[str, str]:
     names = charts.names(document)
     kept = dict(shelf.load(record_id, CHART_RENDERER) or {}) if shelf is not None else {}
     missing = tuple(name for name in names if name not in kept)

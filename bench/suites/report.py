@@ -35,7 +35,7 @@ def _stored_audit(client: TestClient, make_series) -> tuple[str, dict]:
                       source={}, ingest={"format": "json"}, settings=runtime.settings)
     document = compute_document(job)
     record, _ = store_audit(runtime.audits, job, document)
-    runtime.draw_charts_ahead(record.id, document, AUDIT_CHARTS)
+    runtime.draw_charts_ahead(record.id, AUDIT_CHARTS)
     runtime.drawer.wait_until_drawn()
     return record.id, document
 

@@ -11,6 +11,7 @@ import pytest
 from app.api import chart_drawing
 from app.api.chart_drawing import ChartDrawer
 from app.api.pool import ComputePool
+from app.errors import NotFound
 from app.report.chart_cache import CHART_RENDERER
 from app.report.chart_sets import AUDIT_CHARTS
 from app.report.charts import CHART_NAMES
@@ -57,15 +58,30 @@ def shelf() -> Shelf:
     return Shelf()
 
 
+RECORDS: dict[str, dict] = {}  # the "store": record id -> result document
+
+
+def read(record_id: str) -> dict:
+    if record_id not in RECORDS:
+        raise NotFound(f"no audit with id '{record_id}'")
+    return RECORDS[record_id]
+
+
+@pytest.fixture(autouse=True)
+def records():
+    RECORDS.clear()
+    for record_id in "abcdyz":
+        RECORDS[record_id] = {"id": record_id}
+    RECORDS["x"] = {"id": "x", "broken": True}
+    yield RECORDS
+    RECORDS.clear()
+
+
 @pytest.fixture
 def drawer(shelf):
-    drawer = ChartDrawer(shelf, queue=2)
+    drawer = ChartDrawer(shelf, read, queue=2)
     yield drawer
     drawer.shutdown()
-
-
-def doc(record_id: str, **extra) -> dict:
-    return {"id": record_id, **extra}
 
 
 def records_drawn(pen: Pen) -> list[str]:
@@ -74,29 +90,29 @@ def records_drawn(pen: Pen) -> list[str]:
 
 def test_every_chart_is_drawn_and_kept_under_the_current_renderer(pen, shelf, drawer):
     pen.release.set()
-    assert drawer.submit("a", doc("a"), AUDIT_CHARTS)
+    assert drawer.submit("a", AUDIT_CHARTS)
     drawer.wait_until_drawn()
     assert set(shelf.load("a", CHART_RENDERER)) == set(CHART_NAMES)
 
 
 def test_the_queue_is_bounded_and_what_does_not_fit_is_left_to_the_first_view(pen, drawer):
-    assert drawer.submit("a", doc("a"), AUDIT_CHARTS)
+    assert drawer.submit("a", AUDIT_CHARTS)
     assert pen.started.wait(5)
-    assert drawer.submit("b", doc("b"), AUDIT_CHARTS)
-    assert not drawer.submit("c", doc("c"), AUDIT_CHARTS)  # "a" drawing, "b" waiting: the queue of 2 is full
+    assert drawer.submit("b", AUDIT_CHARTS)
+    assert not drawer.submit("c", AUDIT_CHARTS)  # "a" drawing, "b" waiting: the queue of 2 is full
     assert drawer.skipped == 1
     pen.release.set()
     drawer.wait_until_drawn()
     assert records_drawn(pen) == ["a", "b"]
-    assert drawer.submit("d", doc("d"), AUDIT_CHARTS)  # room again once they are done
+    assert drawer.submit("d", AUDIT_CHARTS)  # room again once they are done
     drawer.wait_until_drawn()
     assert records_drawn(pen) == ["a", "b", "d"]
 
 
 def test_a_view_takes_over_a_drawing_still_queued(pen, drawer):
-    drawer.submit("a", doc("a"), AUDIT_CHARTS)
+    drawer.submit("a", AUDIT_CHARTS)
     assert pen.started.wait(5)
-    drawer.submit("b", doc("b"), AUDIT_CHARTS)
+    drawer.submit("b", AUDIT_CHARTS)
     began = time.monotonic()
     drawer.settle("b")  # "b" has not started: cancelled, so the view draws it itself at once
     assert time.monotonic() - began < 1.0
@@ -106,7 +122,7 @@ def test_a_view_takes_over_a_drawing_still_queued(pen, drawer):
 
 
 def test_a_view_stops_a_drawing_under_way_at_the_next_chart_and_what_was_drawn_is_kept(pen, shelf, drawer):
-    drawer.submit("a", doc("a"), AUDIT_CHARTS)
+    drawer.submit("a", AUDIT_CHARTS)
     assert pen.started.wait(5)
     threading.Timer(0.3, pen.release.set).start()
     began = time.monotonic()
@@ -119,18 +135,18 @@ def test_a_view_stops_a_drawing_under_way_at_the_next_chart_and_what_was_drawn_i
 def test_charts_a_view_already_kept_are_not_drawn_again(pen, shelf, drawer):
     shelf.keep("a", CHART_RENDERER, {name: "<svg>by a view</svg>" for name in CHART_NAMES})
     pen.release.set()
-    drawer.submit("a", doc("a"), AUDIT_CHARTS)
+    drawer.submit("a", AUDIT_CHARTS)
     drawer.wait_until_drawn()
     assert pen.drawn == []
 
 
 def test_drawing_waits_while_audits_are_computing_and_resumes_when_the_pool_is_idle(pen, shelf):
     pool = ComputePool(workers=1, queue=1, timeout_seconds=30)
-    drawer = ChartDrawer(shelf, queue=4, wait_idle=pool.wait_idle)
+    drawer = ChartDrawer(shelf, read, queue=4, wait_idle=pool.wait_idle)
     pen.release.set()
     assert pool._take()  # an audit is running
     try:
-        drawer.submit("a", doc("a"), AUDIT_CHARTS)
+        drawer.submit("a", AUDIT_CHARTS)
         time.sleep(0.6)
         assert pen.drawn == []  # nothing drawn while the audit runs
     finally:
@@ -144,25 +160,34 @@ def test_drawing_waits_while_audits_are_computing_and_resumes_when_the_pool_is_i
 def test_a_drawing_that_fails_is_logged_and_forgotten(pen, drawer, caplog):
     pen.release.set()
     with caplog.at_level(logging.ERROR, logger="trendaudit"):
-        assert drawer.submit("x", doc("x", broken=True), AUDIT_CHARTS)
+        assert drawer.submit("x", AUDIT_CHARTS)
         drawer.wait_until_drawn()
     assert "drawing the charts of x" in caplog.text
-    assert drawer.submit("y", doc("y"), AUDIT_CHARTS) and drawer.submit("z", doc("z"), AUDIT_CHARTS)  # none pending
+    assert drawer.submit("y", AUDIT_CHARTS) and drawer.submit("z", AUDIT_CHARTS)  # none pending
+
+
+def test_a_record_deleted_before_its_turn_is_skipped_quietly(pen, shelf, drawer, records, caplog):
+    pen.release.set()
+    del records["a"]
+    with caplog.at_level(logging.ERROR, logger="trendaudit"):
+        assert drawer.submit("a", AUDIT_CHARTS)
+        drawer.wait_until_drawn()
+    assert pen.drawn == [] and shelf.kept == {} and caplog.text == ""
 
 
 def test_when_switched_off_nothing_is_queued(pen, shelf):
-    drawer = ChartDrawer(shelf, queue=8, enabled=False)
-    assert not drawer.submit("a", doc("a"), AUDIT_CHARTS)
-    assert not ChartDrawer(shelf, queue=0).submit("a", doc("a"), AUDIT_CHARTS)
+    drawer = ChartDrawer(shelf, read, queue=8, enabled=False)
+    assert not drawer.submit("a", AUDIT_CHARTS)
+    assert not ChartDrawer(shelf, read, queue=0).submit("a", AUDIT_CHARTS)
     drawer.shutdown()
 
 
 def test_shutting_down_drops_queued_drawings_stops_the_one_under_way_and_refuses_new_ones(pen, shelf):
-    drawer = ChartDrawer(shelf, queue=4)
-    drawer.submit("a", doc("a"), AUDIT_CHARTS)
+    drawer = ChartDrawer(shelf, read, queue=4)
+    drawer.submit("a", AUDIT_CHARTS)
     assert pen.started.wait(5)
-    drawer.submit("b", doc("b"), AUDIT_CHARTS)
+    drawer.submit("b", AUDIT_CHARTS)
     threading.Timer(0.2, pen.release.set).start()
     drawer.shutdown()  # "a" stops after the chart it is drawing; "b" never starts
     assert pen.drawn == [("a", CHART_NAMES[0])]
-    assert not drawer.submit("c", doc("c"), AUDIT_CHARTS)
+    assert not drawer.submit("c", AUDIT_CHARTS)

@@ -4,11 +4,14 @@ from __future__ import annotations
 
 import json
 import re
+import threading
+import time
 import xml.etree.ElementTree as ET
 
 import numpy as np
 import pytest
 
+from app.report import chart_cache
 from app.report.chart_cache import chart_file, chart_views
 from app.report.charts import CHART_NAMES, CHARTS
 from app.report.figures import inline_svg, standalone_svg
@@ -165,3 +168,24 @@ def test_a_property_declared_twice_becomes_one_attribute_with_the_last_value():
 
     svg = presentation_attributes('<svg><image style="image-rendering:crisp-edges;image-rendering:pixelated"/></svg>')
     assert svg == '<svg><image image-rendering="pixelated"/></svg>'
+
+
+def test_views_of_one_record_arriving_together_draw_its_charts_once(document, monkeypatch):
+    calls = []
+    real = chart_cache.labelled_svg
+
+    def counted(*args, **kwargs):
+        calls.append(args[1])
+        time.sleep(0.02)  # long enough for the other views to arrive while the first draws
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(chart_cache, "labelled_svg", counted)
+    results = []
+    views = [threading.Thread(target=lambda: results.append(chart_cache.prepared_charts("together", document)))
+             for _ in range(4)]
+    for view in views:
+        view.start()
+    for view in views:
+        view.join()
+    assert sorted(calls) == sorted(CHART_NAMES)
+    assert len(results) == 4 and all(result is results[0] for result in results)
