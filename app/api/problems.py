@@ -88,7 +88,9 @@ def install_problem_handlers(app: FastAPI) -> None:
         status, body = problem_for_error(error, instance=request.url.path)
         headers = None
         if isinstance(error, ServiceBusy):
-            headers = {"Retry-After": str(error.retry_after)}
+            # Closing the connection sends the retry through accept() again, where the kernel may hand it to
+            # another server process: a kept-alive connection would bring it back to this full pool.
+            headers = {"Retry-After": str(error.retry_after), "Connection": "close"}
         elif status == 401:
             headers = {"WWW-Authenticate": 'Bearer realm="trendaudit"'}  # RFC 9110 15.5.2: a 401 names its scheme
         return problem_response(status, body, headers)
