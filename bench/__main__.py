@@ -21,7 +21,7 @@ from bench.machine import describe
 SUITES = ("audit", "montecarlo", "segmentation", "report", "memory", "http")
 HERE = Path(__file__).resolve().parent
 RESULTS = HERE / "results" / "latest.json"
-README = HERE / "README.md"
+READMES = (HERE / "README.md", HERE.parent / "README.md")  # the bench's own and the project's
 START, END = "<!-- results:start -->", "<!-- results:end -->"
 
 
@@ -55,17 +55,20 @@ def machine_line(machine: dict) -> str:
 
 
 def write_readme(lines: list[str], machine: dict, mode: str) -> None:
-    text = README.read_text(encoding="utf-8")
+    """Replaces the table between the markers in each README that has them."""
     block = "\n".join([START, "", f"Latest {mode} run: {machine_line(machine)}.", "", *lines, "", END])
-    head, rest = text.split(START, 1)
-    README.write_text(head + block + rest.split(END, 1)[1], encoding="utf-8")
+    for readme in READMES:
+        text = readme.read_text(encoding="utf-8")
+        if START in text:
+            head, rest = text.split(START, 1)
+            readme.write_text(head + block + rest.split(END, 1)[1], encoding="utf-8")
 
 
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(prog="python -m bench", description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="fewer repeats and a shorter load test (CI)")
     parser.add_argument("--only", default=",".join(SUITES), help=f"comma-separated, from: {', '.join(SUITES)}")
-    parser.add_argument("--write-readme", action="store_true", help="put the table in bench/README.md")
+    parser.add_argument("--write-readme", action="store_true", help="put the table in bench/README.md and README.md")
     args = parser.parse_args(argv)
     names = [name.strip() for name in args.only.split(",") if name.strip()]
     unknown = sorted(set(names) - set(SUITES))

@@ -67,3 +67,14 @@ def test_the_readme_settings_table_names_every_setting():
     section = README.split("## Settings", 1)[1].split("\n## ", 1)[0]
     named = set(re.findall(r"`TRENDAUDIT_([A-Z_]+)`", section))
     assert named == {name.upper() for name in Settings.model_fields}
+
+
+def test_the_readme_carries_the_latest_benchmark_table_as_the_bench_readme_does():
+    start, end = "<!-- results:start -->", "<!-- results:end -->"
+    bench = (ROOT / "bench" / "README.md").read_text()
+
+    def block(text: str) -> str:
+        return text.split(start, 1)[1].split(end, 1)[0]
+
+    assert start in README and block(README) == block(bench)
+    assert "cores" in block(README) and "| report page" in block(README)
