@@ -1,5 +1,4 @@
 import math
-import threading
 
 import pytest
 import sqlalchemy as sa
@@ -7,6 +6,7 @@ import sqlalchemy as sa
 from app.errors import AccessDenied, InputError, NotFound
 from app.store import AuditRepository, NewAudit, make_engine, migrate
 from app.store.audits import audits_table, decode_cursor, encode_cursor, token_digest
+from store.together import run_together
 
 
 @pytest.fixture
@@ -149,20 +149,11 @@ def test_non_finite_numbers_are_refused_not_stored(repository):
 
 def test_concurrent_creates_all_land(repository):
     ids: list[str] = []
-    errors: list[BaseException] = []
 
     def create_many():
-        try:
-            for _ in range(10):
-                ids.append(repository.create(new_audit())[0].id)
-        except BaseException as error:
-            errors.append(error)
+        for _ in range(10):
+            ids.append(repository.create(new_audit())[0].id)
 
-    threads = [threading.Thread(target=create_many) for _ in range(4)]
-    for thread in threads:
-        thread.start()
-    for thread in threads:
-        thread.join(timeout=60)
-    assert errors == []
+    assert run_together(create_many) == []
     assert len(set(ids)) == 40
     assert {i.id for i in repository.list(limit=100).items} == set(ids)

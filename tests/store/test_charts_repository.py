@@ -2,11 +2,10 @@
 
 from __future__ import annotations
 
-import threading
-
 import pytest
 
 from app.store import AuditRepository, ChartRepository, NewAudit, make_engine, migrate
+from store.together import run_together
 
 
 @pytest.fixture
@@ -47,20 +46,5 @@ def test_processes_keeping_the_same_charts_at_once_leave_one_complete_set(stores
     audits, charts = stores
     record_id, _ = stored_id(audits)
     drawn = {name: f"<svg>{name}</svg>" for name in ("series", "null", "sensitivity", "segments", "detectability")}
-    barrier = threading.Barrier(4)
-    errors: list[BaseException] = []
-
-    def keep():
-        barrier.wait()
-        try:
-            charts.keep(record_id, "v1", drawn)
-        except BaseException as error:  # collected so the test can report it
-            errors.append(error)
-
-    threads = [threading.Thread(target=keep) for _ in range(4)]
-    for thread in threads:
-        thread.start()
-    for thread in threads:
-        thread.join(timeout=60)
-    assert errors == []
+    assert run_together(lambda: charts.keep(record_id, "v1", drawn)) == []
     assert charts.load(record_id, "v1") == drawn
