@@ -26,7 +26,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from app.errors import NotFound
-from app.report.chart_cache import CHART_RENDERER, ChartShelf, draw_charts
+from app.report.chart_cache import ChartShelf, complete_charts
 from app.report.chart_sets import ChartSet
 
 log = logging.getLogger("trendaudit")
@@ -83,18 +83,9 @@ class ChartDrawer:
         try:
             if not self._when_idle(job):
                 return
-            document = self._read(job.record_id)
-            names = job.charts.names(document)
-            kept = dict(self.shelf.load(job.record_id, CHART_RENDERER) or {})
-            drawn = {name: kept[name] for name in names if name in kept}  # a view may have drawn them already
-            for name in names:
-                if name in drawn:
-                    continue
-                if not self._when_idle(job):
-                    break
-                drawn.update(draw_charts(document, job.charts, (name,)))
-            if drawn and drawn != kept:
-                self.shelf.keep(job.record_id, CHART_RENDERER, drawn)
+            # Charts a view already kept are not drawn again; the pool is asked again before each chart.
+            complete_charts(job.record_id, self._read(job.record_id), job.charts, self.shelf,
+                            may_draw=lambda: self._when_idle(job))
         except NotFound:
             pass  # deleted before its turn came: nothing to draw
         except Exception:  # a chart that cannot be drawn will say so, clearly, when its report is viewed

@@ -21,7 +21,7 @@ from __future__ import annotations
 import threading
 import weakref
 from collections import OrderedDict
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from typing import Any, Protocol
 
@@ -148,16 +148,30 @@ def prepared_charts(record_id: str, document: dict[str, Any], charts: ChartSet =
 
 def _load_or_draw(key: tuple, record_id: str, document: dict[str, Any], charts: ChartSet,
                   shelf: ChartShelf | None) -> Mapping[str, str]:
-    names = charts.names(document)
-    kept = dict(shelf.load(record_id, CHART_RENDERER) or {}) if shelf is not None else {}
-    missing = tuple(name for name in names if name not in kept)
-    if missing:
-        kept.update(draw_charts(document, charts, missing))
-        if shelf is not None:
-            shelf.keep(record_id, CHART_RENDERER, {name: kept[name] for name in names})
-    prepared = {name: kept[name] for name in names}
+    prepared = complete_charts(record_id, document, charts, shelf)
     _cache.put(key, prepared)
     return prepared
+
+
+def complete_charts(record_id: str, document: dict[str, Any], charts: ChartSet, shelf: ChartShelf | None,
+                    may_draw: Callable[[], bool] = lambda: True) -> dict[str, str]:
+    """The record's charts: those kept on the shelf, and the missing ones drawn one by one and kept with them.
+
+    ``may_draw`` is asked before each chart is drawn; once it says no, drawing stops and what there is (kept
+    and drawn so far) is kept and returned, so a caller working in the background can give way at any chart.
+    """
+    names = charts.names(document)
+    kept = dict(shelf.load(record_id, CHART_RENDERER) or {}) if shelf is not None else {}
+    ready = {name: kept[name] for name in names if name in kept}
+    for name in names:
+        if name in ready:
+            continue
+        if not may_draw():
+            break
+        ready.update(draw_charts(document, charts, (name,)))
+    if shelf is not None and ready and ready != kept:
+        shelf.keep(record_id, CHART_RENDERER, ready)
+    return ready
 
 
 def chart_file(record_id: str, document: dict[str, Any], name: str, fmt: str,

@@ -8,10 +8,10 @@ import time
 
 import pytest
 
-from app.api import chart_drawing
 from app.api.chart_drawing import ChartDrawer
 from app.api.pool import ComputePool
 from app.errors import NotFound
+from app.report import chart_cache
 from app.report.chart_cache import CHART_RENDERER
 from app.report.chart_sets import AUDIT_CHARTS
 from app.report.charts import CHART_NAMES
@@ -49,7 +49,7 @@ class Pen:
 @pytest.fixture
 def pen(monkeypatch) -> Pen:
     pen = Pen()
-    monkeypatch.setattr(chart_drawing, "draw_charts", pen)
+    monkeypatch.setattr(chart_cache, "draw_charts", pen)
     return pen
 
 
