@@ -134,6 +134,12 @@ def covariance_quadratic_forms(weights: np.ndarray, noise: NoiseModel) -> np.nda
     return gamma[0] * sums[:, 0] + 2.0 * sums[:, 1:] @ gamma[1:]
 
 
+def check_noise_kind(kind: str) -> None:
+    if kind not in NOISE_KINDS:
+        raise InputError(f"unknown noise model '{kind}'", location=Location(field="noise"),
+                         fix="Use one of: " + ", ".join(NOISE_KINDS))
+
+
 def check_noise_parameters(phi: float, phi2: float, theta: float) -> None:
     """Stationary and invertible, and not both an AR(2) and an ARMA(1,1) part."""
     if phi2 != 0.0 and theta != 0.0:
@@ -246,16 +252,7 @@ def estimate_arma11(residuals: np.ndarray, bias_correct: bool = True,
 
 def theta_from_moments(phi: float, rho1: float) -> float:
     """Solve rho1 = (phi + theta)(1 + phi theta) / (1 + 2 phi theta + theta^2) for |theta| < 1."""
-    a = rho1 - phi
-    b = 2 * rho1 * phi - phi * phi - 1
-    if abs(a) < 1e-12:
-        return 0.0
-    disc = b * b - 4 * a * a
-    if disc < 0:
-        return float(np.clip(-b / (2 * a), -0.98, 0.98))
-    roots = ((-b - np.sqrt(disc)) / (2 * a), (-b + np.sqrt(disc)) / (2 * a))
-    inside = [x for x in roots if abs(x) < 1]
-    return float(inside[0]) if inside else 0.0
+    return float(_thetas_from_moments(np.asarray(phi, dtype=float), np.asarray(rho1, dtype=float)))
 
 
 def estimate_ar2(residuals: np.ndarray, n_regressors: int = TREND_REGRESSORS) -> NoiseModel:
@@ -303,6 +300,7 @@ def estimate_noise_rows(rows: np.ndarray, kind: str, n_regressors: int = TREND_R
     eq. 3.2.38), pulled inside the stationarity triangle; ARMA(1,1): phi = r2 / r1 with theta from
     the bias-corrected rho1 (``arma11_moments``). The marginal variance divides by n - n_regressors.
     """
+    check_noise_kind(kind)
     x = np.atleast_2d(np.asarray(rows, dtype=float))
     size, n = x.shape
     zeros = np.zeros(size)
@@ -329,13 +327,17 @@ def estimate_noise_rows(rows: np.ndarray, kind: str, n_regressors: int = TREND_R
 
 
 def _thetas_from_moments(phi: np.ndarray, rho1: np.ndarray) -> np.ndarray:
-    """``theta_from_moments`` elementwise: the invertible root of a theta^2 + b theta + a = 0, a = rho1 - phi."""
+    """``theta_from_moments`` elementwise: the invertible root of a theta^2 + b theta + a = 0, a = rho1 - phi.
+
+    The roots' product is 1, so at most one lies inside the unit circle; b = -(1 - 2 rho1 phi + phi^2) < 0
+    makes it (-b - sqrt(b^2 - 4 a^2)) / (2 a). No real root: the vertex -b / (2 a), clipped.
+    """
     a = rho1 - phi
     b = 2 * rho1 * phi - phi * phi - 1
     disc = b * b - 4 * a * a
     safe_a = np.where(np.abs(a) < 1e-12, 1.0, a)
-    # The root with |theta| < 1 is (-b - sign(b) ... ); b < 0 always (b = -(1 - rho1 phi)^2 - ... <= 0 for |.| < 1).
-    root = np.where(disc >= 0, (-b - np.sqrt(np.maximum(disc, 0.0))) / (2 * safe_a), np.clip(-b / (2 * safe_a), -0.98, 0.98))
+    root = np.where(disc >= 0, (-b - np.sqrt(np.maximum(disc, 0.0))) / (2 * safe_a),
+                    np.clip(-b / (2 * safe_a), -0.98, 0.98))
     root = np.where(np.abs(root) < 1, root, 0.0)
     return np.where(np.abs(a) < 1e-12, 0.0, root)
 
