@@ -212,21 +212,28 @@ def test_selection_table_is_consistent():
     assert select_noise_model(x, criterion="bic", candidates=("white", "ar1")).chosen.kind == "ar1"
 
 
-def choice_rates(truth, n, size, seed, criterion="aicc"):
+def choices(truth, n, size, seed, criterion="aicc"):
     rows = trend_residuals(simulate_noise(TRUTHS[truth], n, size, np.random.default_rng(seed)), n)
-    chosen = [select_noise_model(r, criterion=criterion).chosen.kind for r in rows]
-    return {kind: chosen.count(kind) / size for kind in NOISE_KINDS}
+    return [select_noise_model(r, criterion=criterion).chosen for r in rows]
+
+
+def choice_rates(chosen):
+    return {kind: sum(m.kind == kind for m in chosen) / len(chosen) for kind in NOISE_KINDS}
 
 
 # Equivalent-enough families: AR(2) (0.5, 0.3) and ARMA(1,1) both have a slowly decaying tail after a fast
-# first drop, and either gives a slope variance close to the truth's at these lengths.
-ACCEPTED = {"white": ("white",), "ar1": ("ar1",), "ar2": ("ar2", "arma11"), "arma11": ("arma11", "ar2")}
+# first drop, and either gives a slope variance close to the truth's at these lengths. For white noise any
+# kind is equivalent enough when its fitted variance inflation stays near 1 (a red model fitted to white
+# noise only widens the range a little).
+ACCEPTED = {"white": NOISE_KINDS, "ar1": ("ar1",), "ar2": ("ar2", "arma11"), "arma11": ("arma11", "ar2")}
+WHITE_INFLATION = 1.5  # 90% of the models chosen for white noise inflate a trend's variance less than this
 
 
 @pytest.mark.parametrize("truth", NOISE_KINDS)
 def test_the_true_family_is_usually_chosen(truth):
     # Seeded simulation, 60 series at n = 140 (the slow test below measures the full table).
-    rates = choice_rates(truth, 140, 60, seed=20)
+    chosen = choices(truth, 140, 60, seed=20)
+    rates = choice_rates(chosen)
     assert rates[truth] >= 0.45, rates
     assert sum(rates[k] for k in ACCEPTED[truth]) >= 0.7, rates
 
@@ -240,13 +247,18 @@ def test_choice_rates_by_simulation(truth, n):
     #            arma11 (0.9,-0.5) 0.00/0.04/0.19/0.77
     #   n = 480: white 0.73/0.12/0.07/0.08; ar1 0.5 0.00/0.81/0.09/0.10; ar2 0.00/0.00/0.90/0.10;
     #            arma11 0.00/0.00/0.03/0.97
-    # White noise is mistaken for a red model 27-30% of the time: the side AICc errs on (module docstring).
+    # White noise is mistaken for a red model 27-30% of the time: the side AICc errs on (module docstring); the
+    # 90th percentile of the chosen models' variance inflation is then 1.31 (n = 140) and 1.10 (n = 480).
     # BIC on the same series (for comparison): white 0.95 / 0.99 right, but at n = 140 it takes AR(1) for
     # AR(2) 13% and for ARMA(1,1) 13% of the time (AICc 2% and 4%): the under-fit that narrows ranges.
-    rates = choice_rates(truth, n, 300, seed=11)
-    print(f"\nAICc choice rates, truth {truth}, n = {n}: {rates}")
+    chosen = choices(truth, n, 300, seed=11)
+    rates = choice_rates(chosen)
+    inflation = np.quantile([m.variance_inflation for m in chosen], 0.9)
+    print(f"\nAICc choice rates, truth {truth}, n = {n}: {rates}; 90th percentile of variance inflation {inflation:.2f}")
     assert rates[truth] >= 0.6
     assert sum(rates[k] for k in ACCEPTED[truth]) >= 0.75
+    if truth == "white":
+        assert inflation < WHITE_INFLATION
 
 
 # ---------------------------------------------------------------------------------------------------------------
