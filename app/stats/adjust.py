@@ -43,13 +43,12 @@ from typing import Sequence
 
 import numpy as np
 from scipy import stats
-from scipy.signal import lfilter
 
 from app.errors import ClaimError, InputError, Location, SeriesContentError, SeriesFormatError
-from app.stats.noise import PHI_LIMIT, NoiseModel, estimate_noise, lag_autocorrelations
+from app.stats.noise import (NOISE_KINDS, PHI_LIMIT, NoiseModel, covariance_quadratic_forms, estimate_noise,
+                             lag_autocorrelations)
 from app.stats.ols import check_fraction, fit_linear
 
-NOISE_KINDS = ("white", "ar1", "arma11")
 LAG_RULES = ("ls", "aic")
 DEFAULT_LAG_YEARS = 2.0  # Foster & Rahmstorf (2011) searched lags up to about two years
 MAX_COVARIATES = 8
@@ -133,22 +132,14 @@ class AdjustmentResult:
 def coefficient_inflation(weights: np.ndarray, noise: NoiseModel) -> np.ndarray:
     """nu_j = w_j' R w_j / w_j' w_j for each row w_j of ``weights`` (p, n); R from the noise's autocorrelations.
 
-    AR(1) and ARMA(1,1) both have rho_k = rho1 phi^(k-1) for k >= 1, so the off-diagonal part is a
-    first-order recursive filter: a_t = sum_{s<=t} phi^(t-s) w_s, and sum_{s<t} phi^(t-s) w_s w_t =
-    sum_t w_t (a_t - w_t). Floored at 1, as in ``app.stats.noise.variance_inflation``.
+    Any noise kind (``app.stats.noise.covariance_quadratic_forms``). Floored at 1, as ranges are
+    (``NoiseModel.range_inflation``).
     """
     w = np.atleast_2d(np.asarray(weights, dtype=float))
     ww = np.einsum("ij,ij->i", w, w)
-    rho1, phi = noise.rho1, noise.phi
-    if noise.kind == "white" or (rho1 == 0.0 and phi == 0.0):
+    if noise.is_white:
         return np.ones(w.shape[0])
-    if abs(phi) < 1e-9:  # only lag one correlated (an MA(1))
-        cross = np.einsum("ij,ij->i", w[:, 1:], w[:, :-1])
-        quad = ww + 2.0 * rho1 * cross
-    else:
-        running = lfilter([1.0], [1.0, -phi], w, axis=1)
-        cross = np.einsum("ij,ij->i", w, running - w)
-        quad = ww + 2.0 * (rho1 / phi) * cross
+    quad = covariance_quadratic_forms(w, noise) / noise.marginal_sd ** 2
     with np.errstate(invalid="ignore", divide="ignore"):
         return np.maximum(np.where(ww > 0, quad / np.where(ww > 0, ww, 1.0), 1.0), 1.0)
 

@@ -43,15 +43,14 @@ import numpy as np
 from scipy import stats as sps
 
 from app.errors import ClaimError, Location, SeriesContentError
-from app.stats.noise import (NoiseModel, bias_corrected_phis, estimate_ar1, estimate_noise, lag_autocorrelations,
-                             simulate_noise)
+from app.stats.noise import (NOISE_KINDS, NoiseModel, bias_corrected_phis, estimate_ar1, estimate_noise,
+                             lag_autocorrelations, simulate_noise)
 from app.stats.ols import check_trend_inputs, fit_linear, fit_trend, fit_trend_rows
 from app.stats.whitened_breaks import (WhitenedBreakStats, directional, null_chunks, prais_winsten_rows,
                                        whitened_null)
 
 MODELS = ("hinge", "broken")
 DIRECTIONS = ("decrease", "increase", "any")
-NOISE_KINDS = ("white", "ar1", "arma11")
 MIN_POINTS_PER_SIDE = 3  # a slope on each side needs a few points; fewer makes the change unidentifiable
 MIN_SERIES_POINTS = 10
 DEFAULT_SEED = 20_261_201

@@ -13,8 +13,9 @@ N (N^2 - 1) / (12 m^2), about m T^3 / 12, so
 
     var(slope) = sigma^2 nu / Sxx  ~  12 sigma^2 nu / (m T^3),
 
-where sigma is the marginal noise sd and nu the variance inflation of the noise
-((1 + phi) / (1 - phi) for AR(1); 1 + 2 rho1 / (1 - phi) for ARMA(1,1)). Asking for
+where sigma is the marginal noise sd and nu the variance inflation of the noise, the sum of its
+autocorrelations ((1 + phi) / (1 - phi) for AR(1); 1 + 2 rho1 / (1 - phi) for ARMA(1,1);
+for any of our kinds sigma_e^2 (1 + theta)^2 / (1 - phi - phi2)^2 over the marginal variance). Asking for
 |omega0| = (z_alpha + z_power) sd(slope) and solving for T:
 
     T* = [((z_alpha + z_power) sigma sqrt(nu) / |omega0|) sqrt(12 / m)]^(2/3).
@@ -60,8 +61,8 @@ def _check_slope(slope: float) -> None:
 
 
 def _long_run_sd(noise: NoiseModel) -> float:
-    """sigma sqrt(nu): the noise sd a trend estimate effectively sees."""
-    return float(noise.marginal_sd * math.sqrt(noise.variance_inflation))
+    """sigma sqrt(nu): the noise sd a trend estimate effectively sees (nu floored at 1, as our ranges are)."""
+    return float(noise.marginal_sd * math.sqrt(noise.range_inflation))
 
 
 def years_to_detect(slope: float, noise: NoiseModel, points_per_year: float, alpha: float = 0.05,

@@ -1,8 +1,14 @@
-"""Noise models for trend residuals: estimation and vectorised simulation.
+"""Noise models for trend residuals: the models, moment estimators and vectorised simulation.
 
-Models: white noise, AR(1) and ARMA(1,1). Monthly climate anomalies are strongly
-autocorrelated; treating them as white noise makes trend ranges several times too narrow
-(Santer et al. 2008), so AR(1) is the default everywhere.
+Models (``NOISE_KINDS``, in order of complexity): white noise, AR(1), AR(2) and ARMA(1,1),
+
+    x_t = phi x_{t-1} + phi2 x_{t-2} + e_t + theta e_{t-1},   e_t ~ N(0, sigma^2),
+
+AR(2) having theta = 0 and ARMA(1,1) phi2 = 0 (a model with both is refused). Monthly climate
+anomalies are strongly autocorrelated; treating them as white noise makes trend ranges several
+times too narrow (Santer et al. 2008). Exact likelihood fits and the data-driven choice among
+the kinds live in ``app.stats.noise_fit``; this module holds the moment estimators, which are
+cheap enough for every simulated series of a bootstrap (``estimate_noise_rows``).
 
 The default lag-1 estimate is bias-corrected. The sample lag-1 autocorrelation of the
 residuals of a least-squares fit with ``k`` regressors is biased low by about
@@ -13,46 +19,138 @@ bias, ``phi = (n r1 + k) / (n - 3 - k)`` (``(n r1 + 2) / (n - 5)`` for a trend l
 a stationary range. The correction still falls a little short for phi near 0.9 on short
 series (higher-order terms); the coverage tests in ``tests/stats/test_trend.py`` record what
 that costs.
+
+``NoiseModel.variance_inflation`` is the sum of all autocorrelations (long-run over marginal
+variance), not floored: it is a property of the model. Ranges use ``range_inflation``, floored
+at 1, because an estimated model can claim a long-run variance near zero (theta near -1, the
+over-differencing artefact) that would collapse a range; the floor costs a little over-coverage
+only when the noise is truly anti-persistent, which trend residuals of climate series are not.
 """
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.signal import lfilter
+from scipy.signal import correlate, lfilter
 
+from app.errors import InputError, Location
+
+NOISE_KINDS = ("white", "ar1", "ar2", "arma11")  # the vocabulary, in order of complexity
 PHI_LIMIT = 0.98  # keeps simulated noise stationary and n_eff positive
 TREND_REGRESSORS = 2  # intercept and slope
 
 
 @dataclass(frozen=True)
 class NoiseModel:
-    """x_t = phi x_{t-1} + e_t + theta e_{t-1}, e_t ~ N(0, sigma^2). White noise: phi = theta = 0."""
+    """x_t = phi x_{t-1} + phi2 x_{t-2} + e_t + theta e_{t-1}, e_t ~ N(0, sigma^2). White noise: all zero."""
 
-    kind: str  # "white" | "ar1" | "arma11"
+    kind: str  # one of NOISE_KINDS
     phi: float = 0.0
     theta: float = 0.0
     sigma: float = 1.0  # innovation standard deviation
     r1: float = 0.0  # sample lag-1 autocorrelation of the residuals it was estimated on (uncorrected)
     r2: float = 0.0  # sample lag-2 autocorrelation
-    n: int = 0  # number of residuals it was estimated on (0 when given from outside)
+    n: int = 0  # number of residuals it was estimated on (0 when given from outside: then sigma is not data)
+    phi2: float = 0.0  # the lag-2 autoregressive coefficient of an AR(2)
+    loglik: float = math.nan  # log-likelihood of the fit (restricted when estimator is "reml")
+    estimator: str = "moments"  # "moments" | "ml" | "reml" | "given"
+    n_regressors: int = 0  # regression coefficients fitted before the noise (the residuals' lost dimensions)
+
+    def __post_init__(self):
+        check_noise_parameters(self.phi, self.phi2, self.theta)
+
+    @property
+    def _marginal_ratio(self) -> float:
+        """gamma0 / sigma^2 (Box, Jenkins & Reinsel 2008, eqs. 3.2.19 and 3.4.8)."""
+        p, p2, q = self.phi, self.phi2, self.theta
+        if p2 != 0.0:
+            return float((1 - p2) / ((1 + p2) * ((1 - p2) ** 2 - p * p)))
+        return float((1 + 2 * p * q + q * q) / (1 - p * p))
 
     @property
     def rho1(self) -> float:
         """Lag-1 autocorrelation implied by the model."""
-        p, q = self.phi, self.theta
+        p, p2, q = self.phi, self.phi2, self.theta
+        if p2 != 0.0:
+            return float(p / (1 - p2))
         return float((p + q) * (1 + p * q) / (1 + 2 * p * q + q * q))
 
     @property
     def marginal_sd(self) -> float:
-        p, q = self.phi, self.theta
-        return float(self.sigma * np.sqrt((1 + 2 * p * q + q * q) / (1 - p * p)))
+        return float(self.sigma * np.sqrt(self._marginal_ratio))
+
+    @property
+    def long_run_variance(self) -> float:
+        """2 pi f(0) = sigma^2 (1 + theta)^2 / (1 - phi - phi2)^2: the variance a long mean sees, times n."""
+        return float(self.sigma ** 2 * (1 + self.theta) ** 2 / (1 - self.phi - self.phi2) ** 2)
 
     @property
     def variance_inflation(self) -> float:
-        """Long-run variance over marginal variance: how much the noise inflates a trend's variance."""
-        return float(variance_inflation(self.phi, self.rho1))
+        """Sum of the autocorrelations over all lags (long-run over marginal variance), not floored."""
+        ratio = (1 + self.theta) ** 2 / (1 - self.phi - self.phi2) ** 2
+        return float(ratio / self._marginal_ratio)
+
+    @property
+    def range_inflation(self) -> float:
+        """``variance_inflation`` floored at 1: what ranges use (module docstring)."""
+        return max(self.variance_inflation, 1.0)
+
+    @property
+    def is_white(self) -> bool:
+        return self.kind == "white" or (self.phi == 0.0 and self.phi2 == 0.0 and self.theta == 0.0)
+
+    def autocorrelations(self, max_lag: int) -> np.ndarray:
+        """rho_0 .. rho_max_lag; for k >= 2 every kind obeys rho_k = phi rho_{k-1} + phi2 rho_{k-2} (Box & Jenkins)."""
+        rho = np.zeros(max(int(max_lag), 0) + 1)
+        rho[0] = 1.0
+        if max_lag >= 1 and not self.is_white:
+            rho[1] = self.rho1
+            if max_lag >= 2:
+                zi = [self.phi * rho[1] + self.phi2, self.phi2 * rho[1]]
+                rho[2:] = lfilter([1.0], [1.0, -self.phi, -self.phi2], np.zeros(max_lag - 1), zi=zi)[0]
+        return rho
+
+    def autocovariances(self, n: int) -> np.ndarray:
+        """gamma_0 .. gamma_{n-1}: the first row of the covariance matrix of n consecutive values."""
+        return self.marginal_sd ** 2 * self.autocorrelations(n - 1)[:max(int(n), 0)]
+
+
+def covariance_quadratic_forms(weights: np.ndarray, noise: NoiseModel) -> np.ndarray:
+    """w' Gamma w for every row w of ``weights`` (p, n), Gamma the noise's covariance of n consecutive values.
+
+    w' Gamma w = gamma_0 c_0 + 2 sum_k gamma_k c_k with c_k = sum_i w_i w_{i+k}, the rows'
+    autocorrelation sums, which scipy's correlate computes directly or by FFT (whichever is
+    faster): O(n log n) time and O(n) memory, so 50,000-point records need no n x n matrix.
+    Lags are steps: the points are treated as equally spaced.
+    """
+    w = np.atleast_2d(np.asarray(weights, dtype=float))
+    n = w.shape[1]
+    gamma = noise.autocovariances(n)
+    if noise.is_white:
+        return gamma[0] * np.einsum("ij,ij->i", w, w)
+    sums = np.array([correlate(row, row, mode="full")[n - 1:] for row in w])
+    return gamma[0] * sums[:, 0] + 2.0 * sums[:, 1:] @ gamma[1:]
+
+
+def check_noise_kind(kind: str) -> None:
+    if kind not in NOISE_KINDS:
+        raise InputError(f"unknown noise model '{kind}'", location=Location(field="noise"),
+                         fix="Use one of: " + ", ".join(NOISE_KINDS))
+
+
+def check_noise_parameters(phi: float, phi2: float, theta: float) -> None:
+    """Stationary and invertible, and not both an AR(2) and an ARMA(1,1) part."""
+    if phi2 != 0.0 and theta != 0.0:
+        raise InputError("a noise model has either a second autoregressive term or a moving-average term, not both",
+                         location=Location(field="noise"), fix="Use kind ar2 (theta = 0) or arma11 (phi2 = 0)")
+    # AR(2) stationarity triangle (Box, Jenkins & Reinsel 2008, eq. 3.2.24); AR(1) is the phi2 = 0 edge.
+    stationary = abs(phi2) < 1 and phi + phi2 < 1 and phi2 - phi < 1
+    if not (stationary and abs(theta) < 1 and all(map(math.isfinite, (phi, phi2, theta)))):
+        raise InputError(f"noise parameters phi={phi}, phi2={phi2}, theta={theta} are not stationary and invertible",
+                         location=Location(field="noise"),
+                         fix="Keep |phi2| < 1, phi + phi2 < 1, phi2 - phi < 1 and |theta| < 1")
 
 
 def variance_inflation(phi, rho1):
@@ -154,37 +252,107 @@ def estimate_arma11(residuals: np.ndarray, bias_correct: bool = True,
 
 def theta_from_moments(phi: float, rho1: float) -> float:
     """Solve rho1 = (phi + theta)(1 + phi theta) / (1 + 2 phi theta + theta^2) for |theta| < 1."""
-    a = rho1 - phi
-    b = 2 * rho1 * phi - phi * phi - 1
-    if abs(a) < 1e-12:
-        return 0.0
-    disc = b * b - 4 * a * a
-    if disc < 0:
-        return float(np.clip(-b / (2 * a), -0.98, 0.98))
-    roots = ((-b - np.sqrt(disc)) / (2 * a), (-b + np.sqrt(disc)) / (2 * a))
-    inside = [x for x in roots if abs(x) < 1]
-    return float(inside[0]) if inside else 0.0
+    return float(_thetas_from_moments(np.asarray(phi, dtype=float), np.asarray(rho1, dtype=float)))
+
+
+def estimate_ar2(residuals: np.ndarray, n_regressors: int = TREND_REGRESSORS) -> NoiseModel:
+    """AR(2) by Yule-Walker (``estimate_noise_rows``) on one series."""
+    r = np.asarray(residuals, dtype=float)
+    rows = estimate_noise_rows(r[None, :], "ar2", n_regressors)
+    return NoiseModel(kind="ar2", phi=float(rows.phi[0]), phi2=float(rows.phi2[0]), sigma=float(rows.sigma[0]),
+                      r1=autocorrelation(r, 1), r2=autocorrelation(r, 2), n=r.size, n_regressors=n_regressors)
 
 
 def estimate_noise(residuals: np.ndarray, kind: str, bias_correct: bool = True,
                    n_regressors: int = TREND_REGRESSORS) -> NoiseModel:
-    """The named model fitted to residuals; any kind other than "white" or "arma11" means AR(1)."""
+    """The named model fitted to residuals by moments; any kind outside ``NOISE_KINDS`` means AR(1)."""
     if kind == "white":
         return estimate_white(residuals)
     if kind == "arma11":
         return estimate_arma11(residuals, bias_correct, n_regressors)
+    if kind == "ar2":
+        return estimate_ar2(residuals, n_regressors)
     return estimate_ar1(residuals, bias_correct, n_regressors)
+
+
+@dataclass(frozen=True)
+class NoiseRows:
+    """Per-row moment estimates of one noise kind, for many simulated series at once."""
+
+    kind: str
+    phi: np.ndarray
+    phi2: np.ndarray
+    theta: np.ndarray
+    sigma: np.ndarray
+    marginal_variance: np.ndarray
+    variance_inflation: np.ndarray  # long-run over marginal variance, not floored
+
+    @property
+    def long_run_variance(self) -> np.ndarray:
+        return self.marginal_variance * self.variance_inflation
+
+
+def estimate_noise_rows(rows: np.ndarray, kind: str, n_regressors: int = TREND_REGRESSORS) -> NoiseRows:
+    """Moment estimates of ``kind`` for every row of residuals (S, n), vectorised.
+
+    AR(1): the bias-corrected lag-1 autocorrelation; AR(2): Yule-Walker from r1 and r2
+    (phi = r1 (1 - r2) / (1 - r1^2), phi2 = (r2 - r1^2) / (1 - r1^2); Box, Jenkins & Reinsel 2008,
+    eq. 3.2.38), pulled inside the stationarity triangle; ARMA(1,1): phi = r2 / r1 with theta from
+    the bias-corrected rho1 (``arma11_moments``). The marginal variance divides by n - n_regressors.
+    """
+    check_noise_kind(kind)
+    x = np.atleast_2d(np.asarray(rows, dtype=float))
+    size, n = x.shape
+    zeros = np.zeros(size)
+    marginal = np.einsum("ij,ij->i", x, x) / max(n - n_regressors, 1)
+    phi, phi2, theta = zeros.copy(), zeros.copy(), zeros.copy()
+    if kind == "ar1":
+        phi = bias_corrected_phis(lag_autocorrelations(x, 1), n, n_regressors)
+    elif kind == "ar2":
+        r1 = np.clip(lag_autocorrelations(x, 1), -PHI_LIMIT, PHI_LIMIT)
+        r2 = lag_autocorrelations(x, 2)
+        phi = r1 * (1 - r2) / (1 - r1 * r1)
+        phi2 = np.clip((r2 - r1 * r1) / (1 - r1 * r1), -PHI_LIMIT, PHI_LIMIT)
+        # Inside the triangle with a margin: |phi| <= PHI_LIMIT (1 - phi2) keeps 1 - phi - phi2 away from 0.
+        phi = np.clip(phi, -PHI_LIMIT * (1 - phi2), PHI_LIMIT * (1 - phi2))
+    elif kind == "arma11":
+        phi, rho1 = arma11_moments(lag_autocorrelations(x, 1), lag_autocorrelations(x, 2), n,
+                                   n_regressors=n_regressors)
+        theta = _thetas_from_moments(phi, rho1)
+    ratio = np.where(phi2 != 0.0, (1 - phi2) / ((1 + phi2) * ((1 - phi2) ** 2 - phi * phi)),
+                     (1 + 2 * phi * theta + theta * theta) / (1 - phi * phi))
+    inflation = (1 + theta) ** 2 / (1 - phi - phi2) ** 2 / ratio
+    return NoiseRows(kind=kind, phi=phi, phi2=phi2, theta=theta, sigma=np.sqrt(marginal / ratio),
+                     marginal_variance=marginal, variance_inflation=inflation)
+
+
+def _thetas_from_moments(phi: np.ndarray, rho1: np.ndarray) -> np.ndarray:
+    """``theta_from_moments`` elementwise: the invertible root of a theta^2 + b theta + a = 0, a = rho1 - phi.
+
+    The roots' product is 1, so at most one lies inside the unit circle; b = -(1 - 2 rho1 phi + phi^2) < 0
+    makes it (-b - sqrt(b^2 - 4 a^2)) / (2 a). No real root: the vertex -b / (2 a), clipped.
+    """
+    a = rho1 - phi
+    b = 2 * rho1 * phi - phi * phi - 1
+    disc = b * b - 4 * a * a
+    safe_a = np.where(np.abs(a) < 1e-12, 1.0, a)
+    root = np.where(disc >= 0, (-b - np.sqrt(np.maximum(disc, 0.0))) / (2 * safe_a),
+                    np.clip(-b / (2 * safe_a), -0.98, 0.98))
+    root = np.where(np.abs(root) < 1, root, 0.0)
+    return np.where(np.abs(a) < 1e-12, 0.0, root)
 
 
 def simulate_noise(model: NoiseModel, n: int, size: int, rng: np.random.Generator) -> np.ndarray:
     """``size`` independent stationary realisations of length ``n``, shape (size, n).
 
-    One call to lfilter filters every row at once; AR(1) starts from its stationary
+    One call to lfilter filters every row at once; AR(1) and AR(2) start from their stationary
     distribution, ARMA(1,1) after a burn-in long enough for phi^burn to be negligible.
     """
-    if model.kind == "white" or (model.phi == 0.0 and model.theta == 0.0):
+    if model.is_white:
         return rng.standard_normal((size, n)) * model.sigma
     phi, theta = model.phi, model.theta
+    if model.phi2 != 0.0:
+        return _simulate_ar2(model, n, size, rng)
     if theta == 0.0:
         e = rng.standard_normal((size, n)) * model.sigma
         e[:, 0] /= np.sqrt(1.0 - phi * phi)
@@ -192,3 +360,17 @@ def simulate_noise(model: NoiseModel, n: int, size: int, rng: np.random.Generato
     burn = int(min(500, np.ceil(np.log(1e-8) / np.log(max(abs(phi), 1e-3)))))
     e = rng.standard_normal((size, n + burn)) * model.sigma
     return lfilter([1.0, theta], [1.0, -phi], e, axis=1)[:, burn:]
+
+
+def _simulate_ar2(model: NoiseModel, n: int, size: int, rng: np.random.Generator) -> np.ndarray:
+    """The first two values from their stationary joint normal, the rest by the recursion (lfilter's state)."""
+    phi, phi2, rho1, sd = model.phi, model.phi2, model.rho1, model.marginal_sd
+    z = rng.standard_normal((size, n))
+    x = np.empty((size, n))
+    x[:, 0] = sd * z[:, 0]
+    if n > 1:
+        x[:, 1] = rho1 * x[:, 0] + sd * np.sqrt(1.0 - rho1 * rho1) * z[:, 1]
+    if n > 2:
+        state = np.column_stack([phi * x[:, 1] + phi2 * x[:, 0], phi2 * x[:, 1]])
+        x[:, 2:] = lfilter([1.0], [1.0, -phi, -phi2], model.sigma * z[:, 2:], axis=1, zi=state)[0]
+    return x

@@ -196,9 +196,9 @@ def _running_sums(noise: NoiseModel, n: int, rows: int, rng: np.random.Generator
 
     For white and AR(1) noise one filter both makes the noise and sums it: sigma / ((1 - z^-1)(1 - phi z^-1)).
     """
-    if noise.kind == "white" or (noise.phi == 0.0 and noise.theta == 0.0):
+    if noise.is_white:
         return lfilter([noise.sigma], [1.0, -1.0], rng.standard_normal((rows, n)), axis=1)
-    if noise.theta == 0.0:
+    if noise.theta == 0.0 and noise.phi2 == 0.0:
         e = rng.standard_normal((rows, n))
         e[:, 0] /= np.sqrt(1.0 - noise.phi * noise.phi)
         return lfilter([noise.sigma], [1.0, -(1.0 + noise.phi), noise.phi], e, axis=1)

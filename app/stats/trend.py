@@ -1,4 +1,4 @@
-"""The uncertainty of a straight-line trend under five noise assumptions, side by side.
+"""The uncertainty of a straight-line trend under six noise assumptions, side by side.
 
 Every method shares the OLS slope except ``gls_ar1``; they differ in its standard error,
 degrees of freedom and effective sample size:
@@ -12,6 +12,8 @@ degrees of freedom and effective sample size:
   nu = 1 + 2 rho1 / (1 - phi) with phi = rho2 / rho1 (AR(1) when the moments do not allow an
   ARMA(1,1)); we turn nu into n_eff = n / nu and then proceed exactly as ``ar1``, so an AR(1)
   (rho1 = phi, nu = (1 + phi) / (1 - phi)) gives the same answer by both routes.
+- ``ar2``: as ``arma11``, with nu the variance inflation of the Yule-Walker AR(2) of the residuals
+  (``noise.estimate_noise_rows``).
 - ``gls_ar1``: generalised least squares with AR(1) errors (Prais-Winsten transform, equal
   to GLS with covariance phi^|i-j|), phi as for ``ar1``, one step, n - 2 degrees of freedom.
 - ``hac``: OLS with a Newey-West (1987) Bartlett-kernel covariance and the Newey & West (1994)
@@ -33,10 +35,26 @@ slope: the standard error is +inf, the interval (-inf, +inf), the p-value 1 and 
 n_eff is capped at n: negative autocorrelation never buys a narrower range than white noise.
 
 A ``noise`` model given from outside (typically estimated on a long reference period and
-applied to a short window) replaces the autocorrelation estimated from these residuals:
-``ar1`` and ``gls_ar1`` use its lag-1 autocorrelation rho1 (= phi for an AR(1)), ``arma11``
-its variance inflation; the residual variance still comes from these data. ``white`` and
-``hac`` ignore it.
+applied to a short window) replaces the autocorrelation estimated from these residuals.
+
+- A fitted model (``noise.n > 0``, e.g. from ``noise_fit.select_noise_model``) with ``ar1``,
+  ``ar2`` or ``arma11``: the slope's variance is the model's own, exact for any window,
+  w' Gamma w with w the OLS slope weights and Gamma the model's autocovariance
+  (``slope_variance_under``). For an anti-persistent model (variance inflation below 1) it is
+  floored at the white-noise variance gamma_0 w'w (the floor of ``NoiseModel.range_inflation``);
+  a persistent model is not floored, because over a window shorter than its memory the slope
+  truly varies less than under white noise of the same marginal variance. The uncertainty of that variance is the uncertainty of the
+  noise fit, so the t distribution's degrees of freedom come from the sample the noise was
+  estimated on, not from the window: dof = noise.n / nu - 2 (nu floored at 1), between 1 and
+  noise.n - 2. A 4-point window then gets a wide but finite range; its own n_eff would be
+  below 2 and give (-inf, inf). ``n_effective`` is the white-noise-equivalent count
+  n gamma_0 w'w / var.
+- A model given only by its parameters (``noise.n == 0``: its sigma is not from data): ``ar1``
+  and ``gls_ar1`` use its lag-1 autocorrelation rho1 (= phi for an AR(1)), ``ar2`` and
+  ``arma11`` its variance inflation, in the n_eff route; the residual variance still comes from
+  these data.
+
+``white`` and ``hac`` ignore ``noise``; ``gls_ar1`` always uses only its rho1.
 """
 
 from __future__ import annotations
@@ -49,13 +67,16 @@ from scipy import stats
 
 from app.errors import InputError, Location
 from app.stats.detect import check_alternative, years_to_detect
-from app.stats.noise import (PHI_LIMIT, NoiseModel, arma11_moments, bias_corrected_phis, estimate_noise,
+from app.stats.noise import (NOISE_KINDS, PHI_LIMIT, TREND_REGRESSORS, NoiseModel, arma11_moments,
+                             bias_corrected_phis, covariance_quadratic_forms, estimate_noise, estimate_noise_rows,
                              lag_autocorrelations, variance_inflation)
 from app.stats.nonparam import MannKendallResult, SenSlope, mann_kendall, sen_slope
 from app.stats.ols import (MIN_TREND_POINTS, TrendFit, TrendRows, check_fraction, check_trend_inputs, fit_trend,
                            fit_trend_rows)
 
-METHODS = ("white", "ar1", "arma11", "gls_ar1", "hac")
+METHODS = ("white", "ar1", "ar2", "arma11", "gls_ar1", "hac")
+MODEL_METHODS = ("ar1", "ar2", "arma11")  # the methods that take a fitted noise model's own variance
+MIN_MODEL_DOF = 1.0  # the t distribution's floor: still a finite quantile (12.7 at 95%)
 DEFAULT_METHOD = "ar1"
 
 
@@ -169,14 +190,51 @@ def _ar1(rows: np.ndarray, fit: TrendRows, noise: NoiseModel | None):
     return _inflated(fit, variance_inflation(rho1, rho1))
 
 
+def _ar2(rows: np.ndarray, fit: TrendRows, noise: NoiseModel | None):
+    if noise is not None:
+        nu = np.full(fit.slope.shape, noise.range_inflation)
+    else:
+        nu = np.maximum(estimate_noise_rows(fit.residuals, "ar2").variance_inflation, 1.0)
+    return _inflated(fit, nu)
+
+
 def _arma11(rows: np.ndarray, fit: TrendRows, noise: NoiseModel | None):
     if noise is not None:
-        nu = np.full(fit.slope.shape, noise.variance_inflation)
+        nu = np.full(fit.slope.shape, noise.range_inflation)
     else:
         phi, rho1 = arma11_moments(lag_autocorrelations(fit.residuals, 1), lag_autocorrelations(fit.residuals, 2),
                                    fit.n)
         nu = variance_inflation(phi, rho1)
     return _inflated(fit, nu)
+
+
+def slope_variance_under(t: np.ndarray, noise: NoiseModel) -> float:
+    """Exact variance of the OLS slope over times ``t`` under the noise model: w' Gamma w, w the slope weights.
+
+    Lags are counted in steps (points treated as equally spaced); O(n log n), no n x n matrix
+    (``noise.covariance_quadratic_forms``).
+    """
+    t = np.asarray(t, dtype=float)
+    tc = t - t.mean()
+    weights = tc / float(tc @ tc)
+    return float(covariance_quadratic_forms(weights[None, :], noise)[0])
+
+
+def model_dof(noise: NoiseModel, n_regressors: int = TREND_REGRESSORS) -> float:
+    """Degrees of freedom of a range built on a fitted noise model: its sample's effective size less the regressors."""
+    return float(np.clip(noise.n / noise.range_inflation - n_regressors, MIN_MODEL_DOF,
+                         max(noise.n - n_regressors, MIN_MODEL_DOF)))
+
+
+def _model_variance(fit: TrendRows, noise: NoiseModel):
+    """The fitted model's own slope variance (module docstring): the same for every row."""
+    white = noise.marginal_sd ** 2 / fit.sxx
+    variance = slope_variance_under(fit.t_centred, noise)
+    if noise.variance_inflation < 1.0:  # an anti-persistent model never narrows a range below white noise
+        variance = max(variance, white)
+    shape = fit.slope.shape
+    return (fit.slope, np.full(shape, np.sqrt(variance)), np.full(shape, model_dof(noise)),
+            np.full(shape, fit.n * white / variance))
 
 
 def _gls_ar1(rows: np.ndarray, fit: TrendRows, noise: NoiseModel | None):
@@ -214,7 +272,7 @@ def _hac(rows: np.ndarray, fit: TrendRows, noise: NoiseModel | None):
     return fit.slope, np.sqrt(np.maximum(variance, 0.0)), dof, np.full(fit.slope.shape, float(n))
 
 
-_ESTIMATORS = {"white": _white, "ar1": _ar1, "arma11": _arma11, "gls_ar1": _gls_ar1, "hac": _hac}
+_ESTIMATORS = {"white": _white, "ar1": _ar1, "ar2": _ar2, "arma11": _arma11, "gls_ar1": _gls_ar1, "hac": _hac}
 
 
 def slope_uncertainty_rows(t: np.ndarray, rows: np.ndarray, method: str = DEFAULT_METHOD, confidence: float = 0.95,
@@ -224,7 +282,10 @@ def slope_uncertainty_rows(t: np.ndarray, rows: np.ndarray, method: str = DEFAUL
     check_fraction(confidence, "confidence")
     t, rows = check_trend_inputs(t, np.atleast_2d(rows), MIN_TREND_POINTS)
     fit = fit_trend_rows(t, rows)
-    slope, stderr, dof, n_eff = _ESTIMATORS[method](rows, fit, noise)
+    if noise is not None and noise.n > 0 and method in MODEL_METHODS:
+        slope, stderr, dof, n_eff = _model_variance(fit, noise)
+    else:
+        slope, stderr, dof, n_eff = _ESTIMATORS[method](rows, fit, noise)
     return SlopeRows(method=method, confidence=confidence, n=fit.n, slope=np.asarray(slope, dtype=float),
                      stderr=np.asarray(stderr, dtype=float), dof=np.asarray(dof, dtype=float),
                      n_effective=np.asarray(n_eff, dtype=float))
@@ -270,13 +331,14 @@ def summarise_trend(t: np.ndarray, y: np.ndarray, method: str = DEFAULT_METHOD, 
                     noise: NoiseModel | None = None, points_per_year: float = 1.0) -> TrendSummary:
     """Everything the audit reports about one trend: the fit, every method, rank tests and detectability.
 
-    ``noise`` is the model given, else an ARMA(1,1) for ``method="arma11"`` and an AR(1) for
-    every other method (even "white": years-to-detect must not pretend the noise is white).
+    ``noise`` is the model given, else the method's own kind for ``ar2`` and ``arma11`` and an AR(1)
+    for every other method (even "white": years-to-detect must not pretend the noise is white).
     """
     _check_method(method)
     fit = fit_trend(t, y)
     check_trend_inputs(t, y, MIN_TREND_POINTS)
-    model = noise if noise is not None else estimate_noise(fit.residuals, "arma11" if method == "arma11" else "ar1")
+    kind = method if method in NOISE_KINDS and method != "white" else "ar1"
+    model = noise if noise is not None else estimate_noise(fit.residuals, kind)
     methods = slope_all_methods(t, y, confidence, noise)
     chosen = methods[METHODS.index(method)]
     return TrendSummary(fit=fit, chosen=chosen, methods=methods,

@@ -157,7 +157,7 @@ def directional(f_stat: np.ndarray, change: np.ndarray, direction: str) -> np.nd
 
 def whitened_null(noise: NoiseModel, phi: float, n: int, rows: int, rng: np.random.Generator) -> np.ndarray:
     """``P`` of ``rows`` simulated null series: the innovations themselves when P whitens the noise exactly."""
-    if noise.theta == 0.0 and (noise.phi == phi or (noise.kind == "white" and phi == 0.0)):
+    if noise.theta == 0.0 and noise.phi2 == 0.0 and (noise.phi == phi or (noise.kind == "white" and phi == 0.0)):
         # simulate_noise draws these same variates (times sigma, which no F statistic sees) and filters them.
         return rng.standard_normal((rows, n))
     return prais_winsten_rows(simulate_noise(noise, n, rows, rng), phi)

@@ -32,7 +32,10 @@ def test_arma11_inflation_reduces_to_the_ar1_factor(phi):
     # Foster & Rahmstorf (2011): with rho1 = phi, nu = (1 + phi) / (1 - phi) (Santer et al. 2008's AR(1) factor).
     expected = max((1 + phi) / (1 - phi), 1.0)  # floored at 1: negative correlation never narrows a range
     assert float(variance_inflation(phi, phi)) == pytest.approx(expected, rel=1e-12)
-    assert NoiseModel(kind="arma11", phi=phi, theta=0.0).variance_inflation == pytest.approx(expected, rel=1e-12)
+    # The model's property is the unfloored sum of autocorrelations; ranges use range_inflation, floored at 1.
+    model = NoiseModel(kind="arma11", phi=phi, theta=0.0)
+    assert model.variance_inflation == pytest.approx((1 + phi) / (1 - phi), rel=1e-12)
+    assert model.range_inflation == pytest.approx(expected, rel=1e-12)
 
 
 def test_autocorrelation_matches_statsmodels_acf():

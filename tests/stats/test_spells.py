@@ -17,6 +17,7 @@ from app.stats.windows import window_slopes
 FORTY_YEARS_MONTHLY = 1980.0 + (np.arange(480) + 0.5) / 12.0
 AR1 = NoiseModel(kind="ar1", phi=0.6, sigma=0.1)
 ARMA11 = NoiseModel(kind="arma11", phi=0.8, theta=-0.3, sigma=0.1)
+AR2 = NoiseModel(kind="ar2", phi=0.5, phi2=0.3, sigma=0.1)
 
 
 def _exact_window_slope_sd(t_window: np.ndarray, model: NoiseModel) -> float:
@@ -28,13 +29,13 @@ def _exact_window_slope_sd(t_window: np.ndarray, model: NoiseModel) -> float:
     """
     tc = t_window - t_window.mean()
     weights = tc / (tc @ tc)
-    acov = arma_acovf(np.array([1.0, -model.phi]), np.array([1.0, model.theta]), nobs=t_window.size,
+    acov = arma_acovf(np.array([1.0, -model.phi, -model.phi2]), np.array([1.0, model.theta]), nobs=t_window.size,
                       sigma2=model.sigma ** 2)
     lags = np.abs(np.subtract.outer(np.arange(t_window.size), np.arange(t_window.size)))
     return float(np.sqrt(weights @ acov[lags] @ weights))
 
 
-@pytest.mark.parametrize("model", [AR1, ARMA11], ids=["ar1", "arma11"])
+@pytest.mark.parametrize("model", [AR1, ARMA11, AR2], ids=["ar1", "arma11", "ar2"])
 @pytest.mark.parametrize("direction", ["low", "high"])
 def test_single_window_probability_matches_the_exact_normal_probability(model, direction):
     window_points, null_slope = 120, 0.015
