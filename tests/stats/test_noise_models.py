@@ -178,6 +178,37 @@ def test_restricted_fit_without_regressors_is_the_plain_fit():
     assert regression_basis(10, 2).T @ regression_basis(10, 2) == pytest.approx(np.eye(2), abs=1e-12)
 
 
+def test_restricted_fit_over_a_given_design():
+    # REML depends on the regression's column space only (Harville 1977): a trend line given as a design
+    # equals the default basis; a hinge design (a segmented fit's) is another likelihood, checked densely.
+    n = 90
+    t = 1930.5 + np.arange(float(n))
+    hinge = np.column_stack([np.ones(n), t, np.maximum(t - 1980.0, 0.0)])
+    rows = simulate_noise(TRUTHS["ar1"], n, 1, np.random.default_rng(13))
+    x = rows[0] - hinge @ np.linalg.lstsq(hinge, rows[0], rcond=None)[0]
+    line = fit_noise_ml(x, "ar1", design=hinge[:, :2])
+    assert line.loglik == pytest.approx(fit_noise_ml(x, "ar1").loglik, rel=1e-10)
+    model = fit_noise_ml(x, "ar1", design=hinge)
+    assert model.n_regressors == 3
+    gamma = toeplitz(NoiseModel(kind="ar1", phi=model.phi).autocovariances(n))
+    gi = np.linalg.inv(gamma)
+    xgx = hinge.T @ gi @ hinge
+    s2 = x @ (gi - gi @ hinge @ np.linalg.solve(xgx, hinge.T @ gi)) @ x / (n - 3)
+    neg2 = ((n - 3) * math.log(2 * math.pi * s2) + np.linalg.slogdet(gamma)[1] + np.linalg.slogdet(xgx)[1]
+            - np.linalg.slogdet(hinge.T @ hinge)[1] + (n - 3))
+    assert model.loglik == pytest.approx(-0.5 * neg2, rel=1e-9)
+    assert select_noise_model(x, design=hinge).chosen.n_regressors == 3
+
+
+def test_short_and_noiseless_residuals():
+    # Too few residuals for the three-parameter kinds: the choice is among the ones that fit.
+    x = simulate_noise(TRUTHS["ar1"], 8, 1, np.random.default_rng(14))[0]
+    selection = select_noise_model(x, n_regressors=2)
+    assert [c.kind for c in selection.table] == ["white", "ar1"]
+    noiseless = select_noise_model(np.zeros(30))
+    assert noiseless.chosen.kind == "white" and noiseless.chosen.sigma == 0.0 and noiseless.table == ()
+
+
 def test_restricted_fit_removes_most_of_the_bias_of_trend_residuals():
     # Seeded simulation: AR(1) phi 0.5 around a fitted line, n = 140 (a century and a half of annual means).
     n, phi = 140, 0.5
