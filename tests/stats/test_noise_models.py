@@ -27,7 +27,8 @@ TRUTHS = {"white": NoiseModel(kind="white"), "ar1": NoiseModel(kind="ar1", phi=0
 
 
 def statsmodels_fit(x, kind):
-    # Reference: statsmodels' exact Gaussian ARIMA MLE (state space, Kalman filter), zero mean.
+    # Reference: statsmodels' exact Gaussian ARIMA MLE (state space, Kalman filter), zero mean; the exact
+    # likelihood itself is Brockwell & Davis (2016, Introduction to Time Series and Forecasting, eq. 5.2.9).
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         return ARIMA(x, order=STATSMODELS_ORDERS[kind], trend="n").fit()
