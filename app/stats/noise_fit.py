@@ -2,8 +2,8 @@
 
 Likelihood. Every kind is a stationary Gaussian process with covariance sigma^2 Gamma(params).
 We whiten by the innovations algorithm (Brockwell & Davis 2016, Introduction to Time Series and
-Forecasting, 3rd ed., sections 3.3 and 5.2; Box, Jenkins & Reinsel 2008, ch. 7): standardised
-one-step prediction errors z_t = (x_t - x^_t) / sqrt(v_{t-1}), so that
+Forecasting, 3rd ed., sections 3.3 and 5.2, section numbers from memory; Box, Jenkins & Reinsel 2008),
+into standardised one-step prediction errors z_t = (x_t - x^_t) / sqrt(v_{t-1}), so that
 -2 log L = n log(2 pi sigma^2) + sum log v_t + z'z / sigma^2, and sigma^2 is concentrated out.
 
 - AR(1), AR(2): exact, the first one or two values from the stationary covariance, the rest
