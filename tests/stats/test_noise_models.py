@@ -28,7 +28,8 @@ TRUTHS = {"white": NoiseModel(kind="white"), "ar1": NoiseModel(kind="ar1", phi=0
 
 def statsmodels_fit(x, kind):
     # Reference: statsmodels' exact Gaussian ARIMA MLE (state space, Kalman filter), zero mean; the exact
-    # likelihood itself is Brockwell & Davis (2016, Introduction to Time Series and Forecasting, section 5.2; from memory).
+    # likelihood itself is Brockwell & Davis (2016, Introduction to Time Series and Forecasting, section 5.2;
+    # section from memory).
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         return ARIMA(x, order=STATSMODELS_ORDERS[kind], trend="n").fit()
@@ -46,7 +47,8 @@ def trend_residuals(rows, n):
 def test_ar2_autocorrelations_follow_yule_walker(phi, phi2):
     model = NoiseModel(kind="ar2", phi=phi, phi2=phi2, sigma=0.6)
     rho = model.autocorrelations(30)
-    # Box, Jenkins & Reinsel (2008, section 3.2, the Yule-Walker equations; section from memory): rho1 = phi1 / (1 - phi2), rho2 = phi1 rho1 + phi2.
+    # Box, Jenkins & Reinsel (2008, section 3.2, the Yule-Walker equations; section from memory):
+    # rho1 = phi1 / (1 - phi2), rho2 = phi1 rho1 + phi2.
     assert rho[1] == pytest.approx(phi / (1 - phi2), rel=1e-12)
     assert rho[2] == pytest.approx(phi * rho[1] + phi2, rel=1e-12)
     # Reference library: statsmodels.tsa.arima_process (lag polynomial 1 - phi1 B - phi2 B^2).
@@ -61,7 +63,8 @@ def test_ar2_autocorrelations_follow_yule_walker(phi, phi2):
 @pytest.mark.parametrize("phi, theta", [(0.9, -0.5), (0.87, -0.41), (0.5, 0.4), (-0.3, 0.0)])
 def test_arma11_autocorrelations_and_inflation(phi, theta):
     model = NoiseModel(kind="arma11", phi=phi, theta=theta)
-    # Box, Jenkins & Reinsel (2008, section 3.4; section from memory): rho1 = (1 + phi theta)(phi + theta) / (1 + 2 phi theta + theta^2),
+    # Box, Jenkins & Reinsel (2008, section 3.4; section from memory):
+    # rho1 = (1 + phi theta)(phi + theta) / (1 + 2 phi theta + theta^2),
     # rho_k = phi rho_{k-1} for k >= 2.
     rho1 = (1 + phi * theta) * (phi + theta) / (1 + 2 * phi * theta + theta ** 2)
     assert model.autocorrelations(6) == pytest.approx(arma_acf([1, -phi], [1, theta], lags=7), abs=1e-12)
@@ -71,7 +74,8 @@ def test_arma11_autocorrelations_and_inflation(phi, theta):
 
 
 def test_models_outside_the_stationary_invertible_region_are_refused():
-    # Box, Jenkins & Reinsel (2008, section 3.2; from memory): AR(2) is stationary iff phi2 + phi1 < 1, phi2 - phi1 < 1, |phi2| < 1.
+    # Box, Jenkins & Reinsel (2008, section 3.2; from memory): AR(2) is stationary iff phi2 + phi1 < 1,
+    # phi2 - phi1 < 1 and |phi2| < 1.
     for phi, phi2, theta in [(0.6, 0.5, 0.0), (-0.7, 0.4, 0.0), (0.0, -1.0, 0.0), (0.5, 0.0, 1.0), (0.5, 0.2, 0.1)]:
         with pytest.raises(InputError):
             NoiseModel(kind="ar2", phi=phi, phi2=phi2, theta=theta)
