@@ -63,7 +63,7 @@ class NoiseModel:
 
     @property
     def _marginal_ratio(self) -> float:
-        """gamma0 / sigma^2 (Box, Jenkins & Reinsel 2008, eqs. 3.2.19 and 3.4.8)."""
+        """gamma0 / sigma^2 (Box, Jenkins & Reinsel 2008, sections 3.2 and 3.4; section numbers from memory)."""
         p, p2, q = self.phi, self.phi2, self.theta
         if p2 != 0.0:
             return float((1 - p2) / ((1 + p2) * ((1 - p2) ** 2 - p * p)))
@@ -145,7 +145,7 @@ def check_noise_parameters(phi: float, phi2: float, theta: float) -> None:
     if phi2 != 0.0 and theta != 0.0:
         raise InputError("a noise model has either a second autoregressive term or a moving-average term, not both",
                          location=Location(field="noise"), fix="Use kind ar2 (theta = 0) or arma11 (phi2 = 0)")
-    # AR(2) stationarity triangle (Box, Jenkins & Reinsel 2008, eq. 3.2.24); AR(1) is the phi2 = 0 edge.
+    # AR(2) stationarity triangle (Box, Jenkins & Reinsel 2008, section 3.2; from memory); AR(1) is the phi2 = 0 edge.
     stationary = abs(phi2) < 1 and phi + phi2 < 1 and phi2 - phi < 1
     if not (stationary and abs(theta) < 1 and all(map(math.isfinite, (phi, phi2, theta)))):
         raise InputError(f"noise parameters phi={phi}, phi2={phi2}, theta={theta} are not stationary and invertible",
@@ -297,7 +297,7 @@ def estimate_noise_rows(rows: np.ndarray, kind: str, n_regressors: int = TREND_R
 
     AR(1): the bias-corrected lag-1 autocorrelation; AR(2): Yule-Walker from r1 and r2
     (phi = r1 (1 - r2) / (1 - r1^2), phi2 = (r2 - r1^2) / (1 - r1^2); Box, Jenkins & Reinsel 2008,
-    eq. 3.2.38), pulled inside the stationarity triangle; ARMA(1,1): phi = r2 / r1 with theta from
+    section 3.2; from memory), pulled inside the stationarity triangle; ARMA(1,1): phi = r2 / r1 with theta from
     the bias-corrected rho1 (``arma11_moments``). The marginal variance divides by n - n_regressors.
     """
     check_noise_kind(kind)

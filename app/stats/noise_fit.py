@@ -2,8 +2,8 @@
 
 Likelihood. Every kind is a stationary Gaussian process with covariance sigma^2 Gamma(params).
 We whiten by the innovations algorithm (Brockwell & Davis 2016, Introduction to Time Series and
-Forecasting, 3rd ed., sections 3.3 and 5.2; Box, Jenkins & Reinsel 2008, ch. 7): standardised
-one-step prediction errors z_t = (x_t - x^_t) / sqrt(v_{t-1}), so that
+Forecasting, 3rd ed., sections 3.3 and 5.2, section numbers from memory; Box, Jenkins & Reinsel 2008),
+into standardised one-step prediction errors z_t = (x_t - x^_t) / sqrt(v_{t-1}), so that
 -2 log L = n log(2 pi sigma^2) + sum log v_t + z'z / sigma^2, and sigma^2 is concentrated out.
 
 - AR(1), AR(2): exact, the first one or two values from the stationary covariance, the rest
@@ -77,38 +77,50 @@ class NoiseSelection:
 
 
 def fit_noise_ml(residuals, kind: str, n_regressors: int = TREND_REGRESSORS, restricted: bool = True,
-                 ar1_phi: float | None = None) -> NoiseModel:
+                 ar1_phi: float | None = None, design: np.ndarray | None = None) -> NoiseModel:
     """Exact Gaussian (restricted, by default) maximum-likelihood fit of ``kind`` to a residual vector.
 
     ``restricted=False`` is the plain exact ML of a zero-mean series (the likelihood statsmodels'
-    ARIMA with trend="n" maximises); ``restricted=True`` the REML of the module docstring. The
+    ARIMA with trend="n" maximises); ``restricted=True`` the REML of the module docstring, over the
+    polynomials of degree < ``n_regressors`` in the time index, or over the columns of ``design``
+    (n, k) when the residuals come from another regression (a segmented fit, covariates). The
     model's ``loglik`` is the maximised (restricted) log-likelihood. ``ar1_phi``, the AR(1) fit of
     the same residuals when already known, saves refitting it as a starting point.
     """
-    x = _check_residuals(residuals, kind, n_regressors)
-    stacked = _stacked(x, n_regressors if restricted else 0)
+    x, basis = _check_residuals(residuals, kind, n_regressors, design)
+    stacked = np.vstack([x, basis.T]) if restricted else x[None, :]
     params, neg2 = _fit(stacked, kind, ar1_phi)
     sigma2 = _neg2_loglik(kind, params, stacked)[1]
     phi, phi2, theta = _coefficients(kind, params)
     return NoiseModel(kind=kind, phi=phi, phi2=phi2, theta=theta, sigma=math.sqrt(sigma2),
                       r1=autocorrelation(x, 1), r2=autocorrelation(x, 2), n=x.size, loglik=-0.5 * neg2,
-                      estimator="reml" if restricted else "ml", n_regressors=n_regressors)
+                      estimator="reml" if restricted else "ml", n_regressors=basis.shape[1])
 
 
 def select_noise_model(residuals, n_regressors: int = TREND_REGRESSORS, criterion: str = "aicc",
-                       candidates=NOISE_KINDS, restricted: bool = True) -> NoiseSelection:
+                       candidates=NOISE_KINDS, restricted: bool = True,
+                       design: np.ndarray | None = None) -> NoiseSelection:
     """Fit every candidate (by REML unless ``restricted=False``) and keep the smallest information criterion.
 
-    See the module docstring for why AICc. The criterion counts n - k observations for REML, n for ML.
+    See the module docstring for why AICc. The criterion counts n - k observations for REML, n for
+    ML. Candidates with too few residuals for their parameters are left out (a short record is
+    described by the simpler kinds); all-zero residuals (a noiseless fit) are white noise with sigma 0.
     """
     _check_criterion(criterion, candidates)
+    x = np.asarray(residuals, dtype=float).ravel()
+    k = n_regressors if design is None else np.atleast_2d(design).shape[1]
+    if x.size and not np.any(x != 0.0):
+        white = NoiseModel(kind="white", sigma=0.0, n=x.size, estimator="reml" if restricted else "ml",
+                           n_regressors=k)
+        return NoiseSelection(chosen=white, runner_up=None, criterion=criterion, table=())
+    feasible = [kind for kind in candidates if x.size - k >= PARAMETERS[kind] + MIN_DEGREES] or list(candidates[:1])
     ar1 = None
-    if any(kind != "white" for kind in candidates):  # the nested AR(1) starts the larger fits
-        ar1 = fit_noise_ml(residuals, "ar1", n_regressors, restricted)
-    fits = [ar1 if kind == "ar1" else fit_noise_ml(residuals, kind, n_regressors, restricted,
+    if any(kind != "white" for kind in feasible):  # the nested AR(1) starts the larger fits
+        ar1 = fit_noise_ml(x, "ar1", n_regressors, restricted, design=design)
+    fits = [ar1 if kind == "ar1" else fit_noise_ml(x, kind, n_regressors, restricted, design=design,
                                                    ar1_phi=ar1.phi if ar1 is not None else None)
-            for kind in candidates]
-    m = fits[0].n - (n_regressors if restricted else 0)
+            for kind in feasible]
+    m = x.size - (k if restricted else 0)
     values = [information_criterion(f.loglik, PARAMETERS[f.kind], m, criterion) for f in fits]
     order = np.argsort(values, kind="stable")
     best = values[order[0]]
@@ -128,16 +140,16 @@ def information_criterion(loglik: float, n_params: int, n_obs: int, criterion: s
     return aic + 2.0 * n_params * (n_params + 1) / max(n_obs - n_params - 1, 1)
 
 
-def _stacked(x: np.ndarray, n_regressors: int) -> np.ndarray:
-    return np.vstack([x, regression_basis(x.size, n_regressors).T])
-
-
 def regression_basis(n: int, n_regressors: int) -> np.ndarray:
     """Orthonormal basis (n, k) of the polynomials of degree < k in the time index (k = 2: the trend line)."""
     if n_regressors == 0:
         return np.zeros((n, 0))
-    index = np.linspace(-1.0, 1.0, n)
-    q, _ = np.linalg.qr(np.vander(index, n_regressors, increasing=True))
+    return orthonormal_basis(np.vander(np.linspace(-1.0, 1.0, n), n_regressors, increasing=True))
+
+
+def orthonormal_basis(design: np.ndarray) -> np.ndarray:
+    """Orthonormal columns spanning ``design`` (n, k) (thin QR): REML depends on the column space only."""
+    q, _ = np.linalg.qr(np.asarray(design, dtype=float))
     return q
 
 
@@ -254,20 +266,28 @@ def _fit(stacked: np.ndarray, kind: str, ar1_phi: float | None = None):
 # Input checks
 
 
-def _check_residuals(residuals, kind: str, n_regressors: int) -> np.ndarray:
+def _check_residuals(residuals, kind: str, n_regressors: int, design) -> tuple[np.ndarray, np.ndarray]:
+    """The residuals as a flat array, and the orthonormal basis of the regression they come from."""
     check_noise_kind(kind)
     x = np.asarray(residuals, dtype=float).ravel()
     if not np.all(np.isfinite(x)):
         raise InputError("residuals must be finite numbers", location=Location(field="residuals"),
                          fix="Drop missing values before fitting the noise")
-    if not 0 <= n_regressors or x.size - n_regressors < PARAMETERS[kind] + MIN_DEGREES:
-        raise InputError(f"{x.size} residuals of {n_regressors} regressors are too few to fit {kind} noise",
+    if design is not None:
+        design = np.asarray(design, dtype=float).reshape(x.size, -1)
+        if not np.all(np.isfinite(design)) or np.linalg.matrix_rank(design) < design.shape[1]:
+            raise InputError("the regression design must be finite and of full column rank",
+                             location=Location(field="design"), fix="Drop repeated or empty columns")
+    k = n_regressors if design is None else design.shape[1]
+    if k < 0 or x.size - k < PARAMETERS[kind] + MIN_DEGREES:
+        raise InputError(f"{x.size} residuals of {k} regressors are too few to fit {kind} noise",
                          location=Location(field="residuals"),
-                         fix=f"Use at least {PARAMETERS[kind] + MIN_DEGREES + n_regressors} points")
+                         fix=f"Use at least {PARAMETERS[kind] + MIN_DEGREES + k} points")
     if not np.any(x != 0.0):
         raise InputError("residuals are all zero: there is no noise to model", location=Location(field="residuals"),
                          fix="A noiseless series needs no noise model")
-    return x
+    basis = regression_basis(x.size, k) if design is None else orthonormal_basis(design)
+    return x, basis
 
 
 def _check_criterion(criterion: str, candidates) -> None:

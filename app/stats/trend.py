@@ -43,12 +43,14 @@ applied to a short window) replaces the autocorrelation estimated from these res
   (``slope_variance_under``). For an anti-persistent model (variance inflation below 1) it is
   floored at the white-noise variance gamma_0 w'w (the floor of ``NoiseModel.range_inflation``);
   a persistent model is not floored, because over a window shorter than its memory the slope
-  truly varies less than under white noise of the same marginal variance. The uncertainty of that variance is the uncertainty of the
-  noise fit, so the t distribution's degrees of freedom come from the sample the noise was
-  estimated on, not from the window: dof = noise.n / nu - 2 (nu floored at 1), between 1 and
-  noise.n - 2. A 4-point window then gets a wide but finite range; its own n_eff would be
-  below 2 and give (-inf, inf). ``n_effective`` is the white-noise-equivalent count
-  n gamma_0 w'w / var.
+  truly varies less than under white noise of the same marginal variance. The uncertainty of
+  that variance is the uncertainty of the noise fit, so the t distribution's degrees of freedom
+  come from the sample the noise was estimated on, not from the window: dof = noise.n / nu - 2
+  (nu floored at 1), between 1 and noise.n - 2. A 4-point window then gets a wide but finite
+  range; its own n_eff would be below 2 and give (-inf, inf). ``n_effective`` is the
+  white-noise-equivalent count n gamma_0 w'w / var. With the model chosen by
+  ``select_noise_model`` on a line's residuals, 95% ranges covered the true slope 92-97% of the
+  time under AR(1), AR(2), ARMA(1,1) and heavy-tailed noise (``tests/stats/test_noise_models.py``).
 - A model given only by its parameters (``noise.n == 0``: its sigma is not from data): ``ar1``
   and ``gls_ar1`` use its lag-1 autocorrelation rho1 (= phi for an AR(1)), ``ar2`` and
   ``arma11`` its variance inflation, in the n_eff route; the residual variance still comes from

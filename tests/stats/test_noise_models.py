@@ -27,7 +27,9 @@ TRUTHS = {"white": NoiseModel(kind="white"), "ar1": NoiseModel(kind="ar1", phi=0
 
 
 def statsmodels_fit(x, kind):
-    # Reference: statsmodels' exact Gaussian ARIMA MLE (state space, Kalman filter), zero mean.
+    # Reference: statsmodels' exact Gaussian ARIMA MLE (state space, Kalman filter), zero mean; the exact
+    # likelihood itself is Brockwell & Davis (2016, Introduction to Time Series and Forecasting, section 5.2;
+    # section from memory).
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         return ARIMA(x, order=STATSMODELS_ORDERS[kind], trend="n").fit()
@@ -45,7 +47,8 @@ def trend_residuals(rows, n):
 def test_ar2_autocorrelations_follow_yule_walker(phi, phi2):
     model = NoiseModel(kind="ar2", phi=phi, phi2=phi2, sigma=0.6)
     rho = model.autocorrelations(30)
-    # Box, Jenkins & Reinsel (2008, eqs. 3.2.35-3.2.36): rho1 = phi1 / (1 - phi2), rho2 = phi1 rho1 + phi2.
+    # Box, Jenkins & Reinsel (2008, section 3.2, the Yule-Walker equations; section from memory):
+    # rho1 = phi1 / (1 - phi2), rho2 = phi1 rho1 + phi2.
     assert rho[1] == pytest.approx(phi / (1 - phi2), rel=1e-12)
     assert rho[2] == pytest.approx(phi * rho[1] + phi2, rel=1e-12)
     # Reference library: statsmodels.tsa.arima_process (lag polynomial 1 - phi1 B - phi2 B^2).
@@ -60,7 +63,8 @@ def test_ar2_autocorrelations_follow_yule_walker(phi, phi2):
 @pytest.mark.parametrize("phi, theta", [(0.9, -0.5), (0.87, -0.41), (0.5, 0.4), (-0.3, 0.0)])
 def test_arma11_autocorrelations_and_inflation(phi, theta):
     model = NoiseModel(kind="arma11", phi=phi, theta=theta)
-    # Box, Jenkins & Reinsel (2008, eq. 3.4.9): rho1 = (1 + phi theta)(phi + theta) / (1 + 2 phi theta + theta^2),
+    # Box, Jenkins & Reinsel (2008, section 3.4; section from memory):
+    # rho1 = (1 + phi theta)(phi + theta) / (1 + 2 phi theta + theta^2),
     # rho_k = phi rho_{k-1} for k >= 2.
     rho1 = (1 + phi * theta) * (phi + theta) / (1 + 2 * phi * theta + theta ** 2)
     assert model.autocorrelations(6) == pytest.approx(arma_acf([1, -phi], [1, theta], lags=7), abs=1e-12)
@@ -70,7 +74,8 @@ def test_arma11_autocorrelations_and_inflation(phi, theta):
 
 
 def test_models_outside_the_stationary_invertible_region_are_refused():
-    # Box, Jenkins & Reinsel (2008, eq. 3.2.24): AR(2) is stationary iff phi2 + phi1 < 1, phi2 - phi1 < 1, |phi2| < 1.
+    # Box, Jenkins & Reinsel (2008, section 3.2; from memory): AR(2) is stationary iff phi2 + phi1 < 1,
+    # phi2 - phi1 < 1 and |phi2| < 1.
     for phi, phi2, theta in [(0.6, 0.5, 0.0), (-0.7, 0.4, 0.0), (0.0, -1.0, 0.0), (0.5, 0.0, 1.0), (0.5, 0.2, 0.1)]:
         with pytest.raises(InputError):
             NoiseModel(kind="ar2", phi=phi, phi2=phi2, theta=theta)
@@ -152,7 +157,7 @@ def test_exact_ml_matches_statsmodels_on_the_nile(kind):
 
 
 def test_restricted_likelihood_matches_its_dense_formula():
-    # Harville (1977, J. Am. Stat. Assoc. 72, 320, eq. 4.4) with sigma^2 concentrated out, from dense matrices:
+    # Harville (1977, J. Am. Stat. Assoc. 72, 320; the form from memory) with sigma^2 concentrated out, from dense matrices:
     # -2 logL_R = (n - k) log(2 pi s^2) + log|G| + log|X'G^-1 X| - log|X'X| + (n - k), s^2 = r'Pr / (n - k).
     n, k = 60, 2
     x = trend_residuals(simulate_noise(TRUTHS["arma11"], n, 1, np.random.default_rng(4)), n)[0]
@@ -176,6 +181,37 @@ def test_restricted_fit_without_regressors_is_the_plain_fit():
     restricted = fit_noise_ml(x, "ar2", n_regressors=0)
     assert restricted.loglik == pytest.approx(plain.loglik, rel=1e-10)
     assert regression_basis(10, 2).T @ regression_basis(10, 2) == pytest.approx(np.eye(2), abs=1e-12)
+
+
+def test_restricted_fit_over_a_given_design():
+    # REML depends on the regression's column space only (Harville 1977): a trend line given as a design
+    # equals the default basis; a hinge design (a segmented fit's) is another likelihood, checked densely.
+    n = 90
+    t = 1930.5 + np.arange(float(n))
+    hinge = np.column_stack([np.ones(n), t, np.maximum(t - 1980.0, 0.0)])
+    rows = simulate_noise(TRUTHS["ar1"], n, 1, np.random.default_rng(13))
+    x = rows[0] - hinge @ np.linalg.lstsq(hinge, rows[0], rcond=None)[0]
+    line = fit_noise_ml(x, "ar1", design=hinge[:, :2])
+    assert line.loglik == pytest.approx(fit_noise_ml(x, "ar1").loglik, rel=1e-10)
+    model = fit_noise_ml(x, "ar1", design=hinge)
+    assert model.n_regressors == 3
+    gamma = toeplitz(NoiseModel(kind="ar1", phi=model.phi).autocovariances(n))
+    gi = np.linalg.inv(gamma)
+    xgx = hinge.T @ gi @ hinge
+    s2 = x @ (gi - gi @ hinge @ np.linalg.solve(xgx, hinge.T @ gi)) @ x / (n - 3)
+    neg2 = ((n - 3) * math.log(2 * math.pi * s2) + np.linalg.slogdet(gamma)[1] + np.linalg.slogdet(xgx)[1]
+            - np.linalg.slogdet(hinge.T @ hinge)[1] + (n - 3))
+    assert model.loglik == pytest.approx(-0.5 * neg2, rel=1e-9)
+    assert select_noise_model(x, design=hinge).chosen.n_regressors == 3
+
+
+def test_short_and_noiseless_residuals():
+    # Too few residuals for the three-parameter kinds: the choice is among the ones that fit.
+    x = simulate_noise(TRUTHS["ar1"], 8, 1, np.random.default_rng(14))[0]
+    selection = select_noise_model(x, n_regressors=2)
+    assert [c.kind for c in selection.table] == ["white", "ar1"]
+    noiseless = select_noise_model(np.zeros(30))
+    assert noiseless.chosen.kind == "white" and noiseless.chosen.sigma == 0.0 and noiseless.table == ()
 
 
 def test_restricted_fit_removes_most_of_the_bias_of_trend_residuals():
