@@ -211,8 +211,9 @@ def summary_text(title: str, doc: dict[str, Any]) -> str:
         f"Claimed window {win['start']:g} to {win['end']:g}: {r(win['slope'], win.get('ci'))}",
         f"  window trend vs zero: {format_p(win.get('p_value_vs_zero'))}; "
         f"vs the long-term trend: {format_p(win.get('p_value_vs_long_term'))}",
-        f"Change of trend at the claimed start: {format_p(change.get('p_value_nominal'))} as if the date were "
+        f"Change of slope at the window's ends: {format_p(change.get('p_value_nominal'))} as if the window were "
         f"chosen blind, {format_p(change.get('p_value_adjusted'))} allowing for picking it",
+        f"Noise model: {(doc.get('noise') or {}).get('kind')} (chosen by the data unless set)",
         f"Chance of a spell at least this extreme somewhere in the record: {_share(spell.get('probability'))}",
         f"Years of data needed to detect the long-term trend: {_number(detect.get('years_to_detect'))}",
         f"Breakpoints (continuous segmentation): {breaks}",

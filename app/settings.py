@@ -41,7 +41,7 @@ class Settings(BaseSettings):
     # Statistics defaults.
     default_simulations: int = 2_000
     default_confidence: float = 0.95
-    default_noise: str = "ar1"
+    default_noise: str = "auto"
 
     # Compute pool: CPU-bound audits run here, off the event loop.
     compute_workers: int = 2

@@ -14,8 +14,7 @@ from pydantic import BaseModel, ConfigDict, Field
 from app.audit.claim import CLAIM_KINDS, NOISE_MODELS, RATE_UNITS
 from app.stats.adjust import LAG_RULES, MAX_COVARIATES
 from app.stats.correlate import TRANSFORMS
-
-TREND_METHODS = ("white", "ar1", "arma11", "gls_ar1", "hac")
+from app.stats.trend import METHODS as TREND_METHODS
 Cell = int | float | str | None  # exact types are kept, so the reader sees 1998 and "1998-03" as written
 
 ClaimKind = Literal[CLAIM_KINDS]  # type: ignore[valid-type]

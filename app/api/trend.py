@@ -18,10 +18,11 @@ from app.ingest import IngestOptions, series_from_json
 from app.ingest.series import Series
 from app.ingest.validate import check_enough_values, check_window_in_series
 from app.settings import Settings
-from app.stats.adjust import NOISE_KINDS, AdjustmentResult, fit_covariates
+from app.stats.adjust import AdjustmentResult, fit_covariates
+from app.stats.noise import NOISE_KINDS
 from app.stats.trend import summarise_trend
 
-ADJUSTMENT_FALLBACK_NOISE = "ar1"  # the covariate fit's ranges know white, AR(1) and ARMA(1,1) noise only
+ADJUSTMENT_FALLBACK_NOISE = "ar1"  # the covariate fit's ranges need a noise kind, not a trend method
 
 router = APIRouter(prefix="/api/v1", tags=["trend"])
 

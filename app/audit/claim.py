@@ -7,9 +7,11 @@ from dataclasses import dataclass
 import numpy as np
 
 from app.errors import ClaimError, Location
+from app.stats.noise import CHOSEN_BY_DATA, NOISE_CHOICES
 
 CLAIM_KINDS = ("pause", "slowdown", "reversal", "acceleration")
-NOISE_MODELS = ("white", "ar1", "arma11")
+AUTO_NOISE = CHOSEN_BY_DATA  # the default: the noise model the data choose (smallest AICc)
+NOISE_MODELS = NOISE_CHOICES
 RATE_UNITS = {"per year": 1.0, "per decade": 10.0, "per century": 100.0}
 MIN_WINDOW_POINTS = 3
 
@@ -47,7 +49,7 @@ class Claim:
 @dataclass(frozen=True)
 class AuditOptions:
     confidence: float = 0.95
-    noise: str = "ar1"  # the noise model used for every range and every simulation
+    noise: str = AUTO_NOISE  # the noise model used for every range and every simulation
     simulations: int = 2000
     seed: int | None = None  # None: the audit draws one and records it
     reference_start: float | None = None

@@ -22,6 +22,7 @@ class RobustnessRow:
     change_p_adjusted: float
     code: str
     holds: bool
+    criterion_delta: float = float("nan")  # AICc above the best-fitting noise model (NaN: not a noise model)
 
 
 @dataclass(frozen=True)
@@ -52,14 +53,12 @@ class AuditResult:
     reference: ReferencePeriod
     long_term: Any  # stats.trend.TrendSummary
     noise: Any  # stats.noise.NoiseModel
+    noise_selection: Any  # stats.noise.NoiseSelection: every candidate's fit, the chosen one and the runner-up
     window: Any  # stats.trend.SlopeEstimate
     window_fit: Any  # stats.ols.TrendFit
     window_weaker: Any  # stats.trend.SlopeComparison
     window_stronger: Any
-    hinge: Any  # stats.breaks.BreakTest
-    broken: Any
-    sup_f: Any  # stats.breaks.SupFTest
-    sup_f_broken: Any
+    change: Any  # stats.window_change.WindowChangeTest
     segmentation: Any  # stats.segment.Segmentation (continuous)
     segmentation_discontinuous: Any
     spell: Any  # stats.spells.SpellResult

@@ -1,43 +1,49 @@
 """``run_audit``: the one orchestration from a Series and a claim to an ``AuditResult``.
 
 Order matters only where one step feeds another: the segmentation proposes the reference period,
-the reference period's residuals give the noise model, and that noise model drives every range,
-test and simulation for the window.
+the reference period's residuals choose and fit the noise model, and that noise model drives every
+range, test and simulation for the window. One function, ``_reference_fit``, measures the long-term
+trend and the window's change test for one choice of reference period and noise model; the main
+verdict, every robustness row and the whole-record check are that function applied three ways, and
+``_judge`` turns any of them into the same verdict inputs.
 """
 
 from __future__ import annotations
 
 import dataclasses
-from typing import Sequence
 import time as _time
+from typing import Sequence
 
 import numpy as np
 
 from app import __version__
-from app.audit.claim import RATE_UNITS, AuditOptions, Claim, check_claim, window_mask
+from app.audit.claim import AUTO_NOISE, RATE_UNITS, AuditOptions, Claim, check_claim, window_mask
 from app.audit.reference import choose_reference
 from app.audit.result import Adjustment, AuditResult, RobustnessRow, WholeRecordCheck
-from app.audit.verdict import VerdictInputs, decide, decide_code, format_rate
+from app.audit.verdict import (CHANGE_SUPPORTED, MODEL_DEPENDENT, VerdictInputs, decide, decide_code,
+                               format_rate, ordinal)
 from app.errors import ClaimError, Location
 from app.ingest.sampling import period_label
-from app.ingest.validate import check_window_in_series
 from app.ingest.series import Series
+from app.ingest.validate import check_window_in_series
 from app.stats.adjust import Covariate, fit_covariates
-from app.stats.breaks import break_test, sup_f_tests
 from app.stats.detect import detection_power, years_to_detect
-from app.stats.noise import NoiseModel, estimate_noise
+from app.stats.noise import NoiseModel
+from app.stats.noise_fit import NoiseSelection, fit_noise_ml, select_noise_model
 from app.stats.nonparam import mann_kendall, sen_slope
 from app.stats.ols import fit_trend
 from app.stats.segment import segment_continuous, segment_discontinuous
 from app.stats.sensitivity import endpoint_outliers, window_sensitivity
 from app.stats.spells import spell_probability
-from app.stats.trend import compare_slopes, slope_uncertainty, summarise_trend
+from app.stats.trend import SlopeEstimate, compare_slopes, slope_uncertainty, summarise_trend
+from app.stats.window_change import WindowChangeTest, monte_carlo_se, window_change_test
 
 MIN_WINDOW_POINTS = 3
 MIN_POINTS_BEFORE_WINDOW = 3
-SUP_F_TRIM = 0.15  # Andrews (1993)
-ROBUSTNESS_METHODS = ("white", "ar1", "arma11", "gls_ar1", "hac")
-SIMULATED_NOISE = ("white", "ar1", "arma11")
+PLAUSIBLE_DELTA = 2.0  # AICc units within which another noise model fits about as well (Burnham & Anderson 2002)
+STEP_NEIGHBOURHOOD = 1.0  # a step counts as the window's when it falls within one window length before its end
+MAX_ADAPTIVE_SIMULATIONS = 32_000  # simulations a change test may grow to when its p-value sits at the threshold
+EXTRA_METHODS = ("gls_ar1", "hac")  # single-fit ranges reported beside the noise models, without a test of their own
 
 
 def draw_seed() -> int:
@@ -50,10 +56,19 @@ def _streams(seed: int, names: tuple[str, ...]) -> dict[str, np.random.Generator
     return {name: np.random.default_rng(child) for name, child in zip(names, children)}
 
 
-# "sup_f_broken" is no longer drawn from (the hinge and broken tests share the "sup_f" simulations) but keeps
-# its place, so every later stream keeps its seed.
-STREAMS = ("spell", "sup_f", "sup_f_broken", "segments", "segments_jump", "robust_white", "robust_arma11",
-           "whole_record")
+STREAMS = ("spell", "change", "segments", "segments_jump", "robust_white", "robust_ar1", "robust_ar2",
+           "robust_arma11", "whole_record")
+
+
+@dataclasses.dataclass(frozen=True)
+class ReferenceFit:
+    """The long-term trend and the window's change test for one reference period and one noise model."""
+
+    noise: NoiseModel
+    long_term: SlopeEstimate
+    mann_kendall_p: float
+    change: WindowChangeTest
+    years_to_detect: float
 
 
 def _window_mask(series: Series, claim: Claim) -> np.ndarray:
@@ -66,51 +81,72 @@ def _window_mask(series: Series, claim: Claim) -> np.ndarray:
     return mask
 
 
-def _trim_for(claim_index: int, n: int, min_points: int) -> float:
-    """Andrews' 15% trimming, relaxed just enough that the claimed date itself is admissible."""
-    before, after = claim_index, n - claim_index
-    return float(min(SUP_F_TRIM, max(min(before, after), min_points) / n))
+def _reference_fit(t, y, in_window, claim: Claim, noise: NoiseModel, method: str, options: AuditOptions,
+                   sims: int, rng: np.random.Generator, ppy: float, mk_p: float | None = None) -> ReferenceFit:
+    """Long-term trend, its significance and the window-bounded change test, all under ``noise``."""
+    long_term = slope_uncertainty(t, y, method=method, confidence=options.confidence, noise=noise)
+    first = int(np.flatnonzero(in_window)[0])
+    after = int(np.flatnonzero(in_window)[-1]) + 1
+    direction = claim.direction(long_term.slope)
+    change = window_change_test(t, y, first, after, direction, noise, sims, rng)
+    alpha = 1.0 - options.confidence
+    while _undecided(change.p_value_adjusted, change.n_simulations, alpha) and sims < MAX_ADAPTIVE_SIMULATIONS:
+        # A p-value within simulation noise of the threshold would let the seed decide the verdict.
+        sims = min(4 * sims, MAX_ADAPTIVE_SIMULATIONS)
+        change = window_change_test(t, y, first, after, direction, noise, sims, rng)
+    if mk_p is None:
+        mk_p = mann_kendall(y, alpha=1.0 - options.confidence).p_value
+    ytd = years_to_detect(long_term.slope, noise, ppy, alpha=1.0 - options.confidence)
+    return ReferenceFit(noise=noise, long_term=long_term, mann_kendall_p=float(mk_p), change=change,
+                        years_to_detect=ytd)
 
 
-@dataclasses.dataclass(frozen=True)
-class _ChangeTests:
-    hinge: object
-    broken: object
-    sup_f: object
-    sup_f_broken: object | None
+def _undecided(p: float, n_simulations: int, alpha: float) -> bool:
+    return abs(p - alpha) < 2.0 * monte_carlo_se(p, n_simulations)
 
 
-def _change_tests(t, y, claim_start, direction, noise, noise_kind, sims, rng, min_points,
-                  with_broken=True) -> _ChangeTests:
-    """Hinge (and broken) tests at the claimed date; both sup-F tests calibrate on the same simulated series."""
-    idx = int(np.searchsorted(t, claim_start))
-    trim = _trim_for(idx, t.size, min_points)
-    hinge = break_test(t, y, claim_start, model="hinge", direction=direction, noise=noise)
-    broken = break_test(t, y, claim_start, model="broken", direction=direction, noise=noise) if with_broken else None
-    models = ("hinge", "broken") if with_broken else ("hinge",)
-    sup = sup_f_tests(t, y, claim_start, models, direction=direction, noise_kind=noise_kind, n_simulations=sims,
-                      trim=trim, rng=rng, noise=noise)
-    return _ChangeTests(hinge, broken, sup["hinge"], sup.get("broken"))
-
-
-def _verdict_inputs(claim, tw, yw, lt_estimate, lt_mk_p, noise, method, options, alpha, change, spell_p, ytd,
-                    series: Series):
-    window = slope_uncertainty(tw, yw, method=method, confidence=options.confidence, noise=noise)
-    trend_sign = 1 if lt_estimate.slope >= 0 else -1
-    weaker = compare_slopes(window, lt_estimate, alternative="less" if trend_sign > 0 else "greater")
-    stronger = compare_slopes(window, lt_estimate, alternative="greater" if trend_sign > 0 else "less")
+def _judge(claim: Claim, fit: ReferenceFit, tw, yw, method: str, options: AuditOptions, spell_p: float,
+           series: Series, reference_start: float, disagreeing: tuple[str, ...] = ()):
+    """The verdict inputs of one reference fit: the window's own trend against that fit's long-term trend."""
+    alpha = 1.0 - options.confidence
+    window = slope_uncertainty(tw, yw, method=method, confidence=options.confidence, noise=fit.noise)
+    lt = fit.long_term
+    trend_sign = 1 if lt.slope >= 0 else -1
+    weaker = compare_slopes(window, lt, alternative="less" if trend_sign > 0 else "greater")
+    stronger = compare_slopes(window, lt, alternative="greater" if trend_sign > 0 else "less")
+    step = fit.change.step
+    window_length = float(tw[-1] - tw[0]) + series.step
+    step_near = (float(tw[0]) - STEP_NEIGHBOURHOOD * window_length <= step.time <= float(tw[-1]) + series.step)
     inputs = VerdictInputs(
         kind=claim.kind, window_start=claim.start, window_end=claim.end, window_points=int(tw.size), alpha=alpha,
-        long_term_slope=lt_estimate.slope, long_term_ci=lt_estimate.ci, long_term_p=lt_estimate.p_value,
-        long_term_mk_p=lt_mk_p,
+        long_term_slope=lt.slope, long_term_ci=lt.ci, long_term_p=lt.p_value, long_term_mk_p=fit.mann_kendall_p,
         window_slope=window.slope, window_ci=window.ci, window_p_vs_zero=window.p_value,
         window_p_weaker=weaker.p_value, window_p_stronger=stronger.p_value,
-        change_p_nominal=change.hinge.p_value_nominal, change_p_adjusted=change.sup_f.p_value_adjusted,
-        spell_probability=spell_p, years_to_detect=ytd, rate_factor=RATE_UNITS[options.rate_unit],
+        change_p_nominal=fit.change.p_value_nominal, change_p_adjusted=fit.change.p_value_adjusted,
+        spell_probability=spell_p, years_to_detect=fit.years_to_detect, rate_factor=RATE_UNITS[options.rate_unit],
         rate_unit=options.rate_unit, units=series.units, first_label=period_label(float(tw[0]), series.sampling),
-        last_label=period_label(float(tw[-1]), series.sampling), span_years=float(tw[-1] - tw[0]) + series.step,
+        last_label=period_label(float(tw[-1]), series.sampling), span_years=window_length,
+        step_found=bool(step_near and step.explains_as_well and step.p_value_adjusted < alpha),
+        step_label=period_label(step.time, series.sampling), step_size=step.size,
+        step_p_adjusted=step.p_value_adjusted, disagreeing_models=disagreeing, noise_kind=fit.noise.kind,
     )
     return inputs, window, weaker, stronger
+
+
+def _segment_design(t: np.ndarray, breakpoints: tuple[float, ...]) -> np.ndarray:
+    """The segmented fit's columns over the reference period: a line and a hinge at each break inside it."""
+    columns = [np.ones_like(t), t - t.mean()]
+    columns += [np.maximum(t - b, 0.0) for b in breakpoints if t[0] < b < t[-1]]
+    return np.column_stack(columns)
+
+
+def _choose_noise(residuals: np.ndarray, design: np.ndarray, options: AuditOptions
+                  ) -> tuple[NoiseModel, NoiseSelection]:
+    """Every candidate fitted by restricted likelihood on the segmented fit's residuals, the best by AICc."""
+    selection = select_noise_model(residuals, design=design)
+    if options.noise == AUTO_NOISE:
+        return selection.chosen, selection
+    return selection.model_of(options.noise), selection
 
 
 def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions(),
@@ -144,48 +180,52 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
                          location=Location(field="claim.start"),
                          fix="Start the window later, or give a reference period that begins earlier")
     tw, yw = t[in_window], y[in_window]
+    window_in_ref = in_window[in_ref]
 
     # Noise comes from the residuals of the segmented fit, not of one straight line: over a record whose
     # rate changed, straight-line residuals carry the change itself and would pass for strongly red noise.
-    # On a record with no detected change the two are the same.
     segment_residuals = y - segmentation.fitted
-    noise: NoiseModel = estimate_noise(segment_residuals[in_ref], options.noise)
-    long_term = summarise_trend(tr, yr, method=options.noise, confidence=options.confidence, noise=noise,
+    noise, selection = _choose_noise(segment_residuals[in_ref], _segment_design(tr, segmentation.breakpoints),
+                                     options)
+    long_term = summarise_trend(tr, yr, method=noise.kind, confidence=options.confidence, noise=noise,
                                 points_per_year=ppy)
-    lt_estimate = long_term.chosen
-    direction = claim.direction(lt_estimate.slope)
+    mk_p = long_term.mann_kendall.p_value
+    main = _reference_fit(tr, yr, window_in_ref, claim, noise, noise.kind, options, options.simulations,
+                          rng["change"], ppy, mk_p)
+    lt_estimate = main.long_term
     tail = claim.tail(lt_estimate.slope)
-
-    change = _change_tests(tr, yr, claim.start, direction, noise, options.noise, options.simulations,
-                           rng["sup_f"], min(min_points, int((tr >= claim.start).sum())))
     spell = spell_probability(tr, lt_estimate.slope, noise, int(tw.size), float(fit_trend(tw, yw).slope),
                               direction=tail, n_simulations=options.simulations, rng=rng["spell"])
-    ytd = years_to_detect(lt_estimate.slope, noise, ppy, alpha=alpha)
     window_power = detection_power(lt_estimate.slope, noise, int(tw.size), ppy, alpha=alpha)
     detect_curve = _detect_curve(lt_estimate.slope, noise, ppy, alpha, tr.size)
 
-    inputs, window, weaker, stronger = _verdict_inputs(claim, tw, yw, lt_estimate, long_term.mann_kendall.p_value, noise, options.noise, options,
-                                                       alpha, change, spell.probability, ytd, series)
+    judge = lambda fit, method, disagreeing=(): _judge(claim, fit, tw, yw, method, options,  # noqa: E731
+                                                       spell.probability, series, reference.start, disagreeing)
+    inputs, window, weaker, stronger = judge(main, noise.kind)
+    robustness = _robustness(tr, yr, window_in_ref, claim, selection, main, options, rng, ppy, mk_p, judge,
+                             decide_code(inputs))
+    disagreeing = _disagreeing(selection, robustness, noise.kind)
+    if disagreeing and decide_code(inputs) == CHANGE_SUPPORTED:
+        inputs = dataclasses.replace(inputs, disagreeing_models=disagreeing)
+        robustness = tuple(dataclasses.replace(row, holds=row.code in (CHANGE_SUPPORTED, MODEL_DEPENDENT)
+                                               if row.method != noise.kind else True) for row in robustness)
     verdict = decide(inputs)
 
     sensitivity = window_sensitivity(t, y, float(tw[0]), float(tw[-1]), k_years=options.sensitivity_years,
                                      long_term_slope=lt_estimate.slope)
     endpoints = endpoint_outliers(t, y, float(tw[0]), float(tw[-1]), long_term.fit.line(t), noise.marginal_sd)
-    robustness = _robustness(claim, tw, yw, tr, yr, segment_residuals[in_ref], options, alpha, change,
-                             spell.probability, ppy, series, rng, verdict.code, long_term.mann_kendall.p_value)
-    whole = _whole_record(series, claim, tw, yw, segment_residuals, options, alpha, spell.probability, ppy,
-                          rng["whole_record"], reference, min_points, (long_term, noise, change))
+    whole = _whole_record(series, claim, in_window, segment_residuals, noise.kind, options, main, reference, rng,
+                          ppy, judge)
     verdict = dataclasses.replace(verdict, what_would_change=_what_would_change(
         inputs, verdict.code, sensitivity, robustness, whole, options, series.units))
 
     return AuditResult(
         series=series, claim=claim, options=options, seed=seed, software_version=__version__,
-        reference=reference, long_term=long_term, noise=noise, window=window,
-        window_fit=fit_trend(tw, yw), window_weaker=weaker, window_stronger=stronger,
-        hinge=change.hinge, broken=change.broken, sup_f=change.sup_f, sup_f_broken=change.sup_f_broken,
+        reference=reference, long_term=long_term, noise=noise, noise_selection=selection, window=window,
+        window_fit=fit_trend(tw, yw), window_weaker=weaker, window_stronger=stronger, change=main.change,
         segmentation=segmentation, segmentation_discontinuous=segmentation_jump, spell=spell,
-        sensitivity=sensitivity, endpoints=endpoints, years_to_detect=ytd, window_power=window_power,
-        detect_curve=detect_curve, window_mann_kendall=mann_kendall(yw, alpha=alpha),
+        sensitivity=sensitivity, endpoints=endpoints, years_to_detect=main.years_to_detect,
+        window_power=window_power, detect_curve=detect_curve, window_mann_kendall=mann_kendall(yw, alpha=alpha),
         window_sen=sen_slope(tw, yw, confidence=options.confidence), robustness=robustness, whole_record=whole,
         verdict=verdict, verdict_inputs=inputs, adjustment=_adjust(series, claim, options, covariates, covariate_fit),
         elapsed_seconds=_time.perf_counter() - started,
@@ -195,7 +235,8 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
 def _fit_covariates(series: Series, options: AuditOptions, covariates: Sequence[Covariate]):
     if not covariates:
         return None
-    return fit_covariates(series.time, series.value, covariates, series.points_per_year, noise_kind=options.noise,
+    kind = options.noise if options.noise != AUTO_NOISE else "ar1"
+    return fit_covariates(series.time, series.value, covariates, series.points_per_year, noise_kind=kind,
                           confidence=options.confidence)
 
 
@@ -216,73 +257,71 @@ def _detect_curve(slope, noise, ppy, alpha, n_reference) -> tuple[tuple[float, f
     return tuple((float(n / ppy), float(detection_power(slope, noise, int(n), ppy, alpha=alpha))) for n in lengths)
 
 
-def _robustness(claim, tw, yw, tr, yr, residuals, options, alpha, change, spell_p, ppy, series, rng, main_code,
-                lt_mk_p):
-    """Would the verdict hold under each noise model? White, AR(1) and ARMA(1,1) rerun the change test."""
+def _robustness(tr, yr, window_in_ref, claim, selection: NoiseSelection, main: ReferenceFit, options, rng, ppy,
+                mk_p, judge, main_code) -> tuple[RobustnessRow, ...]:
+    """The verdict under every candidate noise model (each with its own change test), and two single-fit ranges."""
     rows = []
-    sims = max(200, options.simulations // 4)
-    for method in ROBUSTNESS_METHODS:
-        noise_kind = method if method in SIMULATED_NOISE else "ar1"
-        noise = estimate_noise(residuals, noise_kind)
-        lt = slope_uncertainty(tr, yr, method=method, confidence=options.confidence,
-                               noise=noise if method in SIMULATED_NOISE else None)
-        method_change = change
-        if method in ("white", "arma11") and method != options.noise:
-            stream = rng["robust_" + method]
-            method_change = _change_tests(tr, yr, claim.start, claim.direction(lt.slope), noise, noise_kind, sims,
-                                          stream, max(3, min(int(round(options.min_segment_years * ppy)),
-                                                                      int((tr >= claim.start).sum()))),
-                                          with_broken=False)
-        ytd = years_to_detect(lt.slope, noise, ppy, alpha=alpha)
-        inputs, window, weaker, stronger = _verdict_inputs(
-            claim, tw, yw, lt, lt_mk_p, noise if method in SIMULATED_NOISE else None, method, options, alpha, method_change,
-            spell_p, ytd, series)
-        code = decide_code(inputs)
-        rows.append(RobustnessRow(method=method, window_slope=window.slope, window_ci=window.ci,
-                                  long_term_slope=lt.slope, long_term_ci=lt.ci,
-                                  p_window_vs_long_term=(stronger if claim.says_faster else weaker).p_value,
-                                  change_p_adjusted=method_change.sup_f.p_value_adjusted, code=code,
-                                  holds=code == main_code))
+    for candidate in selection.table:
+        if candidate.kind == main.noise.kind:
+            fit = main
+        else:
+            # A model about as plausible as the chosen one can withhold support, so it gets the full simulations.
+            sims = options.simulations if candidate.delta <= PLAUSIBLE_DELTA else max(200, options.simulations // 4)
+            fit = _reference_fit(tr, yr, window_in_ref, claim, candidate.model, candidate.kind, options, sims,
+                                 rng["robust_" + candidate.kind], ppy, mk_p)
+        rows.append(_row(candidate.kind, fit, judge(fit, candidate.kind)[0], main_code, candidate.delta))
+    for method in EXTRA_METHODS:
+        lt = slope_uncertainty(tr, yr, method=method, confidence=options.confidence)
+        fit = dataclasses.replace(main, long_term=lt)
+        rows.append(_row(method, fit, judge(fit, method)[0], main_code, float("nan")))
     return tuple(rows)
 
 
-def _whole_record(series, claim, tw, yw, residuals, options, alpha, spell_p, ppy, rng, reference,
-                  min_points, main) -> WholeRecordCheck:
+def _row(method: str, fit: ReferenceFit, inputs: VerdictInputs, main_code: str, delta: float) -> RobustnessRow:
+    code = decide_code(inputs)
+    weaker_or_stronger = inputs.window_p_stronger if inputs.kind == "acceleration" else inputs.window_p_weaker
+    return RobustnessRow(method=method, window_slope=inputs.window_slope, window_ci=inputs.window_ci,
+                         long_term_slope=fit.long_term.slope, long_term_ci=fit.long_term.ci,
+                         p_window_vs_long_term=weaker_or_stronger, change_p_adjusted=fit.change.p_value_adjusted,
+                         code=code, holds=code == main_code, criterion_delta=delta)
+
+
+def _disagreeing(selection: NoiseSelection, rows, chosen_kind: str) -> tuple[str, ...]:
+    """Plausible noise models (AICc within PLAUSIBLE_DELTA of the best) under which support fails."""
+    plausible = {c.kind for c in selection.table if c.delta <= PLAUSIBLE_DELTA and c.kind != chosen_kind}
+    return tuple(r.method for r in rows if r.method in plausible and r.code != CHANGE_SUPPORTED)
+
+
+def _whole_record(series, claim, in_window, residuals, kind, options, main: ReferenceFit, reference, rng, ppy,
+                  judge) -> WholeRecordCheck:
     """The one-line sensitivity: what if the whole record were the reference period?
 
-    When the reference period already is the whole record, every input is the main analysis's own
-    (the same points, residuals, noise model and claim direction), so its long-term trend and change
-    test are reused rather than recomputed with fewer simulations.
+    When the reference period already is the whole record, the main fit is reused rather than
+    recomputed with fewer simulations.
     """
-    t, y = series.time, series.value
     same = reference.start <= series.start and reference.end >= series.end
     if same:
-        long_term, noise, change = main
-        lt, lt_mk_p = long_term.chosen, long_term.mann_kendall.p_value
+        fit = main
     else:
-        noise = estimate_noise(residuals, options.noise)
-        lt = slope_uncertainty(t, y, method=options.noise, confidence=options.confidence, noise=noise)
-        lt_mk_p = mann_kendall(y, alpha=alpha).p_value
-        sims = max(200, options.simulations // 4)
-        change = _change_tests(t, y, claim.start, claim.direction(lt.slope), noise, options.noise, sims, rng,
-                               min(min_points, int((t >= claim.start).sum())), with_broken=False)
-    ytd = years_to_detect(lt.slope, noise, ppy, alpha=alpha)
-    inputs, window, weaker, stronger = _verdict_inputs(claim, tw, yw, lt, lt_mk_p, noise, options.noise, options,
-                                                       alpha, change, spell_p, ytd, series)
-    return WholeRecordCheck(same_as_reference=same, long_term_slope=lt.slope, long_term_ci=lt.ci,
-                            p_window_vs_long_term=(stronger if claim.says_faster else weaker).p_value,
-                            change_p_adjusted=change.sup_f.p_value_adjusted, code=decide_code(inputs))
+        noise = fit_noise_ml(residuals, kind)
+        fit = _reference_fit(series.time, series.value, in_window, claim, noise, kind, options,
+                             max(200, options.simulations // 4), rng["whole_record"], ppy)
+    inputs = judge(fit, kind)[0]
+    weaker_or_stronger = inputs.window_p_stronger if claim.says_faster else inputs.window_p_weaker
+    return WholeRecordCheck(same_as_reference=same, long_term_slope=fit.long_term.slope,
+                            long_term_ci=fit.long_term.ci, p_window_vs_long_term=weaker_or_stronger,
+                            change_p_adjusted=fit.change.p_value_adjusted, code=decide_code(inputs))
 
 
 def _what_would_change(v: VerdictInputs, code, sensitivity, robustness, whole, options, units) -> tuple[str, ...]:
     rate = lambda s: format_rate(s, v.rate_factor, v.rate_unit, units)  # noqa: E731
-    rows = robustness
     notes = []
     lo, hi = float(np.nanmin(sensitivity.slopes)), float(np.nanmax(sensitivity.slopes))
+    rank = int(round(sensitivity.claimed_rank_percentile))
     notes.append(f"Moving the window's start and end by up to {options.sensitivity_years:g} years changes its trend "
-                 f"from {rate(lo)} to {rate(hi)}; the claimed window ranks at the "
-                 f"{sensitivity.claimed_rank_percentile:.0f}th percentile of those windows (0 = the flattest).")
-    flips = [r for r in rows if not r.holds]
+                 f"from {rate(lo)} to {rate(hi)}; the claimed window ranks at the {ordinal(rank)} percentile of "
+                 f"those windows (0 = the flattest).")
+    flips = [r for r in robustness if not r.holds]
     if flips:
         notes.append("Under " + ", ".join(f"the {r.method} noise model ({r.code.replace('_', ' ')})" for r in flips)
                      + " the verdict would differ.")
@@ -293,5 +332,5 @@ def _what_would_change(v: VerdictInputs, code, sensitivity, robustness, whole, o
                      f"and the verdict would be {whole.code.replace('_', ' ')}.")
     if code in ("too_short_to_tell", "consistent_with_trend") and np.isfinite(v.years_to_detect):
         notes.append(f"A window of about {v.years_to_detect:.0f} years or more would be needed before a change of the "
-                     f"long-term trend's size could reliably show itself.")
+                     f"long-term trend's size could reliably (nine times in ten) show itself.")
     return tuple(notes)

@@ -72,20 +72,33 @@ def _band(t: np.ndarray, fit, stderr: float, confidence: float, dof: float) -> d
     return {"time": t, "value": line, "lower": line - crit * se, "upper": line + crit * se}
 
 
-def _break(b) -> dict[str, Any]:
-    return {"model": b.model, "break_time": b.break_time, "slope_before": b.slope_before,
-            "slope_after": b.slope_after, "slope_change": b.slope_change, "level_change": b.level_change,
-            "stat": b.stat, "t_change": b.t_change, "p_value_nominal": b.p_value_nominal,
-            "p_value_two_sided": b.p_value_two_sided, "direction": b.direction}
+def _change(c) -> dict[str, Any]:
+    step = c.step
+    return {"p_value_nominal": c.p_value_nominal, "p_value_adjusted": c.p_value_adjusted, "direction": c.direction,
+            "model": c.model, "first_time": c.first_time, "last_time": c.last_time,
+            "slope_before": c.slope_before, "slope_window": c.slope_window, "slope_after": c.slope_after,
+            "slope_change": c.slope_change, "statistic": c.statistic,
+            "with_jump": {"slope_change": c.jump_slope_change, "jump": c.jump_size,
+                          "p_value_nominal": c.p_value_jump_nominal},
+            "variance_explained": c.rss_reduction,
+            "step": {"time": step.time, "size": step.size, "variance_explained": step.rss_reduction,
+                     "p_value_adjusted": step.p_value_adjusted, "explains_as_well": step.explains_as_well},
+            "windows_searched": c.n_windows, "length_range_points": list(c.length_range),
+            "n_simulations": c.n_simulations,
+            "p_value_adjusted_se": c.p_value_adjusted_se, "null_max_histogram": _histogram(c.null_max)}
 
 
-def _sup(s) -> dict[str, Any] | None:
-    if s is None:
-        return None
-    return {"model": s.model, "stat_at_claim": s.stat_at_claim, "sup_stat": s.sup_stat, "argmax_time": s.argmax_time,
-            "p_value_adjusted": s.p_value_adjusted, "p_value_sup": s.p_value_sup,
-            "critical_values": s.critical_values, "n_simulations": s.n_simulations, "trim": s.trim,
-            "null_max_histogram": _histogram(s.null_max)}
+def _noise(model) -> dict[str, Any]:
+    return {"kind": model.kind, "phi": model.phi, "phi2": model.phi2, "theta": model.theta, "sigma": model.sigma,
+            "r1": model.r1, "marginal_sd": model.marginal_sd, "variance_inflation": model.variance_inflation,
+            "loglik": model.loglik}
+
+
+def _noise_selection(selection) -> dict[str, Any]:
+    return {"criterion": selection.criterion, "chosen": selection.chosen.kind,
+            "runner_up": selection.runner_up.kind if selection.runner_up is not None else None,
+            "candidates": [{**_noise(c.model), "kind": c.kind, "loglik": c.loglik, "n_params": c.n_params,
+                            "criterion": c.criterion, "delta": c.delta} for c in selection.table]}
 
 
 def _segmentation(seg) -> dict[str, Any]:
@@ -137,8 +150,7 @@ def audit_document(result: AuditResult) -> dict[str, Any]:
                       "mann_kendall": {"p_value": lt.mann_kendall.p_value, "z": lt.mann_kendall.z,
                                        "trend": lt.mann_kendall.trend, "sen_slope": lt.sen.slope,
                                        "sen_ci": list(lt.sen.ci)}},
-        "noise": {"kind": r.noise.kind, "phi": r.noise.phi, "theta": r.noise.theta, "sigma": r.noise.sigma,
-                  "r1": r.noise.r1, "marginal_sd": r.noise.marginal_sd},
+        "noise": {**_noise(r.noise), "selection": _noise_selection(r.noise_selection)},
         "window": {**_estimate(r.window), "start": claim.start, "end": claim.end,
                    "first_time": float(series.time[in_win][0]), "last_time": float(series.time[in_win][-1]),
                    "p_value_vs_zero": r.window.p_value,
@@ -147,9 +159,7 @@ def audit_document(result: AuditResult) -> dict[str, Any]:
                    "mann_kendall": {"p_value": r.window_mann_kendall.p_value, "z": r.window_mann_kendall.z,
                                     "trend": r.window_mann_kendall.trend, "tau": r.window_mann_kendall.tau},
                    "sen": {"slope": r.window_sen.slope, "ci": list(r.window_sen.ci)}},
-        "trend_change": {"p_value_nominal": r.hinge.p_value_nominal, "p_value_adjusted": r.sup_f.p_value_adjusted,
-                         "direction": r.hinge.direction, "hinge": _break(r.hinge), "broken": _break(r.broken),
-                         "sup_f": _sup(r.sup_f), "sup_f_broken": _sup(r.sup_f_broken)},
+        "trend_change": _change(r.change),
         "spell": {"probability": r.spell.probability, "probability_single_window": r.spell.probability_single_window,
                   "expected_count": r.spell.expected_count, "observed_count": r.spell.observed_count,
                   "observed_slope": r.spell.observed_slope, "window_points": r.spell.window_points,

@@ -19,7 +19,7 @@ class CorrelationOptions:
     simulations: int = 2000
     seed: int | None = None  # None: the audit draws one and records it
     confidence: float = 0.95
-    noise: str = "ar1"  # the noise model of the null and of the slope's range: "white" | "ar1" | "arma11"
+    noise: str = "auto"  # the noise model of the null and of the slope's range (app.stats.noise.NOISE_CHOICES)
 
 
 def check_correlation_options(options: CorrelationOptions, max_simulations: int = DEFAULT_MAX_SIMULATIONS,

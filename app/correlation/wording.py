@@ -109,9 +109,9 @@ def warnings_for(correlations: CorrelationSet, reg: DriverRegression, *, n_share
     elif abs(correlations.levels) - abs(correlations.detrended) > LEVELS_GAP:
         notes.append(f"The correlation of levels (r = {correlations.levels:.2f}) is much stronger than that of the "
                      f"detrended series (r = {correlations.detrended:.2f}): it rests mostly on the shared trend.")
-    if reg.noise.phi > PERSISTENT_PHI:
+    if reg.noise.rho1 > PERSISTENT_PHI:
         notes.append(f"The residuals about the fitted relationship are very persistent (lag-1 autocorrelation "
-                     f"{reg.noise.phi:.2f}): the relationship may be missing a slow factor, and its range is uncertain "
+                     f"{reg.noise.rho1:.2f}): the relationship may be missing a slow factor, and its range is uncertain "
                      f"even after the allowance made for persistence.")
     if n_shared < n_response:
         notes.append(f"Only {n_shared} of the response's {n_response} points have a driver value at the same time; "

@@ -11,7 +11,7 @@ from typing import Any
 
 from app.report.adjusted_chart import factor_names
 from app.report.context import VERDICT_LABELS
-from app.report.numbers import Rate, format_p, format_percent, is_number, shared_decimals, time_of
+from app.report.numbers import Rate, format_p, format_percent, format_probability, is_number, shared_decimals, time_of
 
 LAG_UNITS = {"annual": "year", "quarterly": "quarter", "monthly": "month"}
 LAG_RULE_WORDS = {"ls": "the one that fits best by least squares",
@@ -126,7 +126,7 @@ def _comparison(doc: dict[str, Any], adjusted: dict[str, Any], adjustment: dict[
         both("Evidence of a change at the claimed date (p, allowing for the choice of date)",
              lambda d: format_p((d.get("trend_change") or {}).get("p_value_adjusted"))),
         both("Chance of a spell like this anywhere in the record",
-             lambda d: format_percent((d.get("spell") or {}).get("probability"))),
+             lambda d: format_probability((d.get("spell") or {}).get("probability"))),
         ComparisonRow("Spread of the data about the fit (standard deviation)",
                       spread(raw_sd), spread(adjusted_sd)),
         both("Points audited", span),

@@ -23,7 +23,7 @@ from matplotlib.ticker import PercentFormatter
 
 from app.report import palette
 from app.report.figures import lay_out, new_figure, styled
-from app.report.numbers import Rate, format_percent, format_years, is_number, time_of
+from app.report.numbers import Rate, format_percent, format_probability, format_years, is_number, time_of
 
 MAX_CELL_TICKS = 7
 GAP_FACTOR = 1.5  # a step this many times the usual one means values are missing between
@@ -174,7 +174,7 @@ def _null_description(doc: dict[str, Any]) -> str:
             f"{spell.get('n_simulations')} simulated records that follow the long-term trend "
             f"({rate.text(spell.get('null_slope'))}) with this series' noise. The claimed window's trend, "
             f"{rate.text(spell.get('observed_slope'))}, is marked. A window at least this extreme turned up somewhere "
-            f"in {format_percent(spell.get('probability'))} of the simulated records, and in "
+            f"in {format_probability(spell.get('probability'))} of the simulated records, and in "
             f"{format_percent(spell.get('probability_single_window'), 1)} of single windows.")
 
 

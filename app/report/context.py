@@ -11,7 +11,7 @@ from datetime import datetime, timezone
 from typing import Any
 from urllib.parse import urlsplit
 
-from app.report.numbers import Rate, format_p, format_percent, format_years, is_number, time_of
+from app.report.numbers import Rate, format_p, format_percent, format_probability, format_years, is_number, time_of
 
 VERDICT_LABELS = {
     "consistent_with_trend": "Consistent with the long-term trend",
@@ -19,6 +19,9 @@ VERDICT_LABELS = {
     "too_short_to_tell": "Too short to tell",
     "claim_contradicted": "The data contradict the claim",
     "no_long_term_trend": "No long-term trend to compare with",
+    "level_shift": "A jump in level, not a change in trend",
+    "depends_on_noise_model": "Support depends on the noise model",
+    "change_differs_from_claim": "A change, but not the one claimed",
 }
 
 CLAIM_WORDS = {
@@ -31,12 +34,13 @@ CLAIM_WORDS = {
 METHOD_LABELS = {
     "white": "White noise (each point independent)",
     "ar1": "AR(1) noise (Santer et al. 2008)",
+    "ar2": "AR(2) noise (two years' memory)",
     "arma11": "ARMA(1,1) noise (Foster & Rahmstorf 2011)",
     "gls_ar1": "Generalised least squares, AR(1) errors",
     "hac": "Newey-West (HAC) standard errors",
 }
 
-NOISE_WORDS = {"white": "white noise", "ar1": "AR(1) noise", "arma11": "ARMA(1,1) noise"}
+NOISE_WORDS = {"white": "white noise", "ar1": "AR(1) noise", "ar2": "AR(2) noise", "arma11": "ARMA(1,1) noise"}
 
 
 @dataclass(frozen=True)
@@ -57,6 +61,7 @@ class RobustnessView:
     p_change: str
     verdict: str
     holds: str
+    fit: str = ""  # AICc above the best noise model, "+0.0" for the best; empty for rows that are not noise models
 
 
 @dataclass(frozen=True)
@@ -169,10 +174,10 @@ def _key_numbers(doc: dict[str, Any], rate: Rate, conf: str) -> tuple[KeyNumber,
                   f"{time_of(doc, ref.get('end'))}" + (f" ({ref['note']})" if ref.get("note") else "")),
         KeyNumber("Trend in the claimed window", rate.text(win.get("slope")),
                   f"{conf} range {rate.range_text(win.get('ci'))}; {win.get('n')} data points"),
-        KeyNumber("Evidence of a change at the claimed date", format_p(change.get("p_value_adjusted")),
-                  f"allowing for the choice of date ({format_p(change.get('p_value_nominal'))} "
-                  "if the date had been fixed in advance); small values mean evidence of a change"),
-        KeyNumber("Chance of a spell like this anywhere in the record", format_percent(spell.get("probability")),
+        KeyNumber("Evidence of a change during the claimed window", format_p(change.get("p_value_adjusted")),
+                  f"allowing for the choice of both ends ({format_p(change.get('p_value_nominal'))} "
+                  "if the window had been fixed in advance); small values mean evidence of a change"),
+        KeyNumber("Chance of a spell like this anywhere in the record", format_probability(spell.get("probability")),
                   "if the long-term trend simply continued with this series' natural variability"),
         KeyNumber("Years of data needed to detect the trend", format_years(detect.get("years_to_detect")),
                   f"the claimed window spans {format_years(detect.get('window_years'))} years"),
@@ -180,7 +185,7 @@ def _key_numbers(doc: dict[str, Any], rate: Rate, conf: str) -> tuple[KeyNumber,
 
 
 def _robustness(doc: dict[str, Any], rate: Rate) -> tuple[RobustnessView, ...]:
-    chosen = _get(doc, "options", "noise", default="ar1")
+    chosen = _get(doc, "noise", "kind", default="ar1")
     rows = []
     for row in doc.get("robustness") or []:
         rows.append(RobustnessView(
@@ -193,6 +198,7 @@ def _robustness(doc: dict[str, Any], rate: Rate) -> tuple[RobustnessView, ...]:
             p_change=format_p(row.get("change_p_adjusted")),
             verdict=VERDICT_LABELS.get(row.get("code"), str(row.get("code"))),
             holds="Yes" if row.get("holds") else "No",
+            fit=f"+{row['criterion_delta']:.1f}" if is_number(row.get("criterion_delta")) else "",
         ))
     return tuple(rows)
 
@@ -233,9 +239,14 @@ def _noise_text(doc: dict[str, Any]) -> str:
     noise = doc.get("noise") or {}
     kind = noise.get("kind", "ar1")
     words = NOISE_WORDS.get(kind, str(kind))
-    parts = [f"The year-to-year variability is modelled as {words}"]
-    if kind in ("ar1", "arma11") and is_number(noise.get("phi")):
-        parts.append(f" with a lag-one autocorrelation of {noise['phi']:.2f}")
+    how = "chosen by the data" if _get(doc, "options", "noise", default="") == "auto" else "set for this audit"
+    parts = [f"The year-to-year variability is modelled as {words} ({how}"]
+    selection = noise.get("selection") or {}
+    if selection.get("runner_up"):
+        parts.append(f"; next best {NOISE_WORDS.get(selection['runner_up'], selection['runner_up'])}")
+    parts.append(")")
+    if kind != "white" and is_number(noise.get("r1")):
+        parts.append(f" with a lag-one autocorrelation of {noise['r1']:.2f}")
     units = _get(doc, "inputs", "units", default="")
     if is_number(noise.get("marginal_sd")):
         parts.append(f" and a standard deviation of {noise['marginal_sd']:.3g}{(' ' + units) if units else ''}")

@@ -10,7 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-from app.report.context import KeyNumber, Links, ProvenanceRow, SourceView, created_text, source_view_of
+from app.report.context import NOISE_WORDS, KeyNumber, Links, ProvenanceRow, SourceView, created_text, source_view_of
 from app.report.numbers import format_percent, format_time, is_number, shared_decimals
 
 CORRELATION_VERDICT_LABELS = {
@@ -25,7 +25,6 @@ TRANSFORM_WORDS = {
     "cumulative": "the running total of the driver",
 }
 STEP_WORDS = {"annual": "year-to-year", "quarterly": "quarter-to-quarter", "monthly": "month-to-month"}
-NOISE_WORDS = {"white": "white noise", "ar1": "AR(1) noise", "arma11": "ARMA(1,1) noise"}
 
 
 @dataclass(frozen=True)

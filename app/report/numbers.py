@@ -9,10 +9,10 @@ from __future__ import annotations
 import math
 from typing import Any
 
-from app.audit.verdict import format_p, format_rate
+from app.audit.verdict import format_p, format_probability, format_rate
 from app.ingest.sampling import PERIODS_PER_YEAR, period_label
 
-__all__ = ["Rate", "format_p", "format_percent", "format_rate", "format_time", "format_years", "is_number",
+__all__ = ["Rate", "format_p", "format_percent", "format_probability", "format_rate", "format_time", "format_years", "is_number",
            "shared_decimals", "time_of"]
 
 

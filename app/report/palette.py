@@ -38,4 +38,7 @@ VERDICT_ACCENTS = {
     "too_short_to_tell": MUTED,
     "claim_contradicted": MARK,
     "no_long_term_trend": MUTED,
+    "level_shift": MARK,
+    "depends_on_noise_model": MUTED,
+    "change_differs_from_claim": WINDOW,
 }

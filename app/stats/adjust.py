@@ -45,8 +45,9 @@ import numpy as np
 from scipy import stats
 
 from app.errors import ClaimError, InputError, Location, SeriesContentError, SeriesFormatError
-from app.stats.noise import (NOISE_KINDS, PHI_LIMIT, NoiseModel, covariance_quadratic_forms, estimate_noise,
-                             lag_autocorrelations)
+from app.stats.noise import (CHOSEN_BY_DATA, PHI_LIMIT, NoiseModel, check_noise_kind, covariance_quadratic_forms,
+                             estimate_noise, lag_autocorrelations)
+from app.stats.noise_fit import select_noise_model
 from app.stats.ols import check_fraction, fit_linear
 
 LAG_RULES = ("ls", "aic")
@@ -151,12 +152,17 @@ def ar_regression(design: np.ndarray, y: np.ndarray, noise_kind: str = "ar1", co
     ``noise`` given from outside replaces the model estimated on the residuals (its autocorrelation is
     used; the residual variance still comes from these data).
     """
-    check_noise_kind(noise_kind)
+    check_noise_kind(noise_kind, "options.noise", allow_chosen=True)
     check_fraction(confidence, "confidence")
     X = np.asarray(design, dtype=float)
     n, p = X.shape
     fit = fit_linear(X, y)
-    model = noise if noise is not None else estimate_noise(fit.residuals, noise_kind, n_regressors=p)
+    if noise is not None:
+        model = noise
+    elif noise_kind == CHOSEN_BY_DATA:
+        model = select_noise_model(fit.residuals, design=X).chosen
+    else:
+        model = estimate_noise(fit.residuals, noise_kind, n_regressors=p)
     weights = fit.cov_unscaled @ X.T
     nu = coefficient_inflation(weights, model)
     n_eff = np.minimum(n / nu, float(n))
@@ -203,12 +209,6 @@ def lagged_values(response_time: np.ndarray, covariate: Covariate, step: float, 
 
 # ---------------------------------------------------------------------------------------------------------------
 # Input checks
-
-
-def check_noise_kind(kind: str) -> None:
-    if kind not in NOISE_KINDS:
-        raise ClaimError(f"unknown noise model '{kind}'", location=Location(field="options.noise"),
-                         fix="Use one of: " + ", ".join(NOISE_KINDS))
 
 
 def _check_lag_rule(rule: str) -> None:
@@ -415,7 +415,7 @@ def choose_lags(base: np.ndarray, columns: list[np.ndarray], y: np.ndarray,
 def fit_covariates(t: np.ndarray, y: np.ndarray, covariates: Sequence[Covariate], points_per_year: float,
                    noise_kind: str = "ar1", confidence: float = 0.95, lag_rule: str = "ls") -> AdjustmentResult:
     """Fit trend plus lagged covariates to the response (t, y) and build the adjusted series (module docstring)."""
-    check_noise_kind(noise_kind)
+    check_noise_kind(noise_kind, "options.noise", allow_chosen=True)
     _check_lag_rule(lag_rule)
     check_fraction(confidence, "confidence")
     t, y, covs = _check_inputs(t, y, covariates, points_per_year)

@@ -38,6 +38,8 @@ from scipy.signal import correlate, lfilter
 from app.errors import InputError, Location
 
 NOISE_KINDS = ("white", "ar1", "ar2", "arma11")  # the vocabulary, in order of complexity
+CHOSEN_BY_DATA = "auto"  # not a kind: the kind with the smallest AICc (``noise_fit.select_noise_model``)
+NOISE_CHOICES = (CHOSEN_BY_DATA,) + NOISE_KINDS  # what a user may ask for
 PHI_LIMIT = 0.98  # keeps simulated noise stationary and n_eff positive
 TREND_REGRESSORS = 2  # intercept and slope
 
@@ -134,10 +136,12 @@ def covariance_quadratic_forms(weights: np.ndarray, noise: NoiseModel) -> np.nda
     return gamma[0] * sums[:, 0] + 2.0 * sums[:, 1:] @ gamma[1:]
 
 
-def check_noise_kind(kind: str) -> None:
-    if kind not in NOISE_KINDS:
-        raise InputError(f"unknown noise model '{kind}'", location=Location(field="noise"),
-                         fix="Use one of: " + ", ".join(NOISE_KINDS))
+def check_noise_kind(kind: str, field: str = "noise", allow_chosen: bool = False) -> None:
+    """A kind of the vocabulary; ``allow_chosen`` also admits ``CHOSEN_BY_DATA``."""
+    allowed = NOISE_CHOICES if allow_chosen else NOISE_KINDS
+    if kind not in allowed:
+        raise InputError(f"unknown noise model '{kind}'", location=Location(field=field),
+                         fix="Use one of: " + ", ".join(allowed))
 
 
 def check_noise_parameters(phi: float, phi2: float, theta: float) -> None:

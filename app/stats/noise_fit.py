@@ -66,6 +66,7 @@ class CandidateFit:
     n_params: int
     criterion: float
     delta: float  # criterion minus the best candidate's
+    model: NoiseModel  # the fitted model itself, so a caller can use any candidate
 
 
 @dataclass(frozen=True)
@@ -74,6 +75,15 @@ class NoiseSelection:
     runner_up: NoiseModel | None
     criterion: str
     table: tuple[CandidateFit, ...]  # in the order of the candidates given
+
+    def model_of(self, kind: str) -> NoiseModel:
+        """The fitted model of one candidate kind (a kind the user fixed, say)."""
+        check_noise_kind(kind)
+        for candidate in self.table:
+            if candidate.kind == kind:
+                return candidate.model
+        raise InputError(f"noise kind '{kind}' was not among the candidates fitted",
+                         location=Location(field="noise"), fix="Fit it among the candidates")
 
 
 def fit_noise_ml(residuals, kind: str, n_regressors: int = TREND_REGRESSORS, restricted: bool = True,
@@ -125,7 +135,7 @@ def select_noise_model(residuals, n_regressors: int = TREND_REGRESSORS, criterio
     order = np.argsort(values, kind="stable")
     best = values[order[0]]
     table = tuple(CandidateFit(kind=f.kind, loglik=f.loglik, n_params=PARAMETERS[f.kind], criterion=v,
-                               delta=v - best) for f, v in zip(fits, values))
+                               delta=v - best, model=f) for f, v in zip(fits, values))
     return NoiseSelection(chosen=fits[order[0]], runner_up=fits[order[1]] if len(fits) > 1 else None,
                           criterion=criterion, table=table)
 

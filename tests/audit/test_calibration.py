@@ -38,7 +38,7 @@ def _one(args):
     result = run_audit(Series(t, y, sampling), Claim(tw[0] - 0.01, tw[-1] + 0.01, "pause"),
                        AuditOptions(simulations=SIMULATIONS, seed=index))
     naive = compare_slopes(slope_uncertainty(tw, yw, "white"), slope_uncertainty(t, y, "white"))
-    return result.verdict.code, result.hinge.p_value_nominal < 0.05, naive.p_value < 0.05
+    return result.verdict.code, result.change.p_value_nominal < 0.05, naive.p_value < 0.05
 
 
 def _rates(n: int, ppy: int, seed: int, trend, change_at=None):

@@ -52,7 +52,7 @@ def test_a_trend_that_stopped_is_supported():
     trend = np.where(YEARS < 1985, 0.02 * (YEARS - YEARS[0]), 0.02 * (1985 - YEARS[0]))
     result = audit(annual(trend + red_noise(4)), 1985.0, 2024.9)
     assert result.verdict.code == "trend_change_supported", result.verdict.summary
-    assert result.sup_f.p_value_adjusted < 0.05
+    assert result.change.p_value_adjusted < 0.05
 
 
 def test_a_pause_claim_during_clear_warming_is_contradicted():
@@ -76,7 +76,7 @@ def test_a_recovery_in_a_falling_record_is_tested_as_a_rise_in_slope():
     # A shrinking ice record whose decline turned into a recovery: the claim direction follows the trend's sign.
     trend = np.where(YEARS < 1990, -0.03 * (YEARS - YEARS[0]), -0.03 * (1990 - YEARS[0]) + 0.02 * (YEARS - 1990))
     result = audit(annual(trend + red_noise(8)), 1990.0, 2024.9, kind="reversal")
-    assert result.hinge.direction == "increase"
+    assert result.change.direction == "increase"
     assert result.verdict.code == "trend_change_supported", result.verdict.summary
 
 
@@ -133,3 +133,40 @@ def test_covariates_are_taken_out_and_the_adjusted_series_audited():
     assert doc["adjustment"]["audit"]["verdict"]["code"] in {"consistent_with_trend", "too_short_to_tell",
                                                               "claim_contradicted"}
     assert doc["adjustment"]["audit"]["adjustment"] is None
+
+
+def test_a_pause_that_ended_is_compared_with_the_trend_before_it():
+    """Flat for 30 years, then faster: the window's end enters the test, so what came after cannot hide it."""
+    years = np.arange(1880, 2021) + 0.5
+    trend = np.where(years < 1945, 0.01 * (years - 1880), 0.65)
+    trend = np.where(years > 1975, 0.65 + 0.018 * (years - 1975), trend)
+    noise = simulate_noise(NoiseModel("ar1", phi=0.3, sigma=0.05), years.size, 1, np.random.default_rng(21))[0]
+    series = Series(time=years, value=trend + noise, sampling="annual", units="°C")
+    result = run_audit(series, Claim(1945.0, 1975.9, "pause"), AuditOptions(simulations=400, seed=2))
+    assert result.change.model == "three_segment"
+    assert result.verdict.code == "trend_change_supported", result.verdict.summary
+
+
+def test_a_step_with_no_change_of_slope_is_a_level_shift():
+    y = 0.015 * (YEARS - YEARS[0]) + np.where(YEARS > 1990, 0.6, 0.0) + red_noise(22, phi=0.2, sigma=0.08)
+    result = audit(annual(y), 1991.0, 2010.9, kind="acceleration")
+    assert result.verdict.code == "level_shift", result.verdict.summary
+    assert 1988 <= result.change.step.time <= 1993
+
+
+def test_a_stop_claimed_as_a_reversal_is_a_different_change():
+    """It stopped, it did not reverse: the change is shown, the claimed kind is not."""
+    trend = np.where(YEARS < 1995, 0.03 * (YEARS - YEARS[0]), 0.03 * (1995 - YEARS[0]))
+    result = audit(annual(trend + red_noise(23, sigma=0.1)), 1995.0, 2024.9, kind="reversal")
+    assert result.verdict.code == "change_differs_from_claim", result.verdict.summary
+    assert "stopped" in result.verdict.headline
+
+
+def test_a_three_point_window_at_the_end_of_a_monthly_record_is_answered():
+    months = 1990 + (np.arange(360) + 0.5) / 12
+    y = 0.002 * (months - 1990) * 12 / 12 + red_noise(24, n=360)
+    series = Series(time=months, value=y, sampling="monthly", units="°C")
+    result = run_audit(series, Claim(2019.75, 2020.0, "pause"), AuditOptions(simulations=200, seed=1))
+    assert result.window.n == 3 and result.verdict.code in {"too_short_to_tell", "consistent_with_trend",
+                                                            "no_long_term_trend"}
+    assert np.isfinite(result.window.ci[0]) and np.isfinite(result.window.ci[1])
