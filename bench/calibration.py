@@ -255,7 +255,7 @@ def _print_consistency(results: list[CellResult]) -> list[str]:
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(prog="python -m bench.calibration", description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="few records per cell and fewer simulations (smoke)")
-    parser.add_argument("--series", type=int, help="records per cell (default 300, quick 24)")
+    parser.add_argument("--series", type=int, help="records per cell (default 300, quick 40)")
     parser.add_argument("--simulations", type=int, help="simulations per audit (default 1000, quick 200)")
     parser.add_argument("--seed", type=int, default=2026)
     parser.add_argument("--only", default="", help="run only cells whose name contains this text")
@@ -268,7 +268,7 @@ def main(argv: list[str] | None = None) -> int:
         series = max(1, math.ceil(args.consistency / len(cells)))
         simulations = args.simulations or 200
     else:
-        series = args.series or (24 if args.quick else 300)
+        series = args.series or (40 if args.quick else 300)
         simulations = args.simulations or (200 if args.quick else 1000)
     machine = describe()
     mode = "consistency" if args.consistency else "quick" if args.quick else "full"
