@@ -74,8 +74,10 @@ def load_checker():
     global _checker_module
     if _checker_module is None:
         spec = importlib.util.spec_from_file_location("trendaudit_consistency", CHECKER)
-        _checker_module = importlib.util.module_from_spec(spec)
-        spec.loader.exec_module(_checker_module)
+        module = importlib.util.module_from_spec(spec)
+        sys.modules[spec.name] = module  # dataclasses look their module up there
+        spec.loader.exec_module(module)
+        _checker_module = module
     return _checker_module
 
 
