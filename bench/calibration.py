@@ -27,6 +27,7 @@ from multiprocessing import get_context
 from pathlib import Path
 
 import numpy as np
+from scipy.stats import norm
 
 from app.audit import AuditOptions, Claim, run_audit
 from app.audit.verdict import VERDICT_CODES
@@ -38,7 +39,7 @@ HERE = Path(__file__).resolve().parent
 DEFAULT_OUT = HERE / "calibration.md"
 CHECKER = HERE.parent / "tests" / "audit" / "consistency.py"
 WORKERS = 2
-WILSON_Z = 1.959964  # the normal 97.5% quantile, for 95% intervals
+WILSON_Z = float(norm.ppf(0.975))  # for 95% intervals
 SUPPORTED = "trend_change_supported"
 # Every code the reworked engine may give, in table order; codes the engine in hand lacks show as 0.
 KNOWN_CODES = ("consistent_with_trend", "trend_change_supported", "too_short_to_tell", "claim_contradicted",
