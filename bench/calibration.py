@@ -181,10 +181,18 @@ def cell_seed(base_seed: int, cell: Cell) -> int:
 
 
 def tasks_for(cell: Cell, count: int, simulations: int, base_seed: int, check: bool = False) -> list[Task]:
+    """One audit per record. When checking the wording, every other record is turned upside down (a falling
+    series, as sea ice is): the claim's window is the claimant's pick on it too, since it depends on the
+    times alone, and the words for direction ("steeper", "below", "kept falling") get exercised both ways."""
     seed = cell_seed(base_seed, cell)
     t, records, claims = cell.draw(count, seed)
-    return [Task(cell.sampling, t, records[i], claims[i], (seed + i) % (2**62), simulations, cell.true_slope, check)
-            for i in range(count)]
+    tasks = []
+    for i in range(count):
+        sign = -1.0 if check and i % 2 else 1.0
+        true_slope = None if cell.true_slope is None else sign * cell.true_slope
+        tasks.append(Task(cell.sampling, t, sign * records[i], claims[i], (seed + i) % (2**62), simulations,
+                          true_slope, check))
+    return tasks
 
 
 def run_cell(pool: ProcessPoolExecutor, cell: Cell, count: int, simulations: int, base_seed: int = 2026,
@@ -262,7 +270,8 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--simulations", type=int, help="simulations per audit (default 1000, quick 200)")
     parser.add_argument("--seed", type=int, default=2026)
     parser.add_argument("--only", default="", help="run only cells whose name contains this text")
-    parser.add_argument("--out", type=Path, default=None, help=f"Markdown file (default {DEFAULT_OUT.name})")
+    parser.add_argument("--out", type=Path, default=None,
+                        help=f"Markdown file (default {DEFAULT_OUT.name}; with --consistency, every contradiction)")
     parser.add_argument("--consistency", type=int, default=0, metavar="N",
                         help="audit about N records from every cell and list the contradictions instead")
     args = parser.parse_args(argv)
@@ -289,6 +298,9 @@ def main(argv: list[str] | None = None) -> int:
     lines += _print_consistency(results) if args.consistency else table(results)
     text = "\n".join(lines) + "\n"
     print(text)
+    if args.consistency and args.out:  # every contradiction, for reading through
+        text += "\n" + "\n".join(f"- [{r.cell.name}] {c}" for r in results for o in r.outcomes
+                                  for c in o.contradictions) + "\n"
     out = args.out or (None if args.consistency else DEFAULT_OUT)
     if out is not None:
         out.write_text(text, encoding="utf-8")

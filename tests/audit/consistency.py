@@ -214,8 +214,9 @@ def check_significance(sentence: str, facts: Facts) -> list[str]:
 
 
 def check_zero_percent(sentence: str, facts: Facts) -> list[str]:
-    return [f"a probability written \"{m.group(0).strip()}\"; under 0.1% must read \"under 0.1%\" "
-            f"(spell probability {facts.spell_probability:.4g})" for m in PERCENT_ZERO.finditer(sentence)]
+    return [f"a percentage written \"{m.group(0).strip()}\": one under 0.1% must read \"under 0.1%\", a larger "
+            f"one needs its digits (spell probability {facts.spell_probability:.4g})"
+            for m in PERCENT_ZERO.finditer(sentence)]
 
 
 def check_zero_rate(sentence: str, facts: Facts) -> list[str]:
