@@ -223,7 +223,8 @@ def check_zero_rate(sentence: str, facts: Facts) -> list[str]:
     if any(s == 0.0 for s in facts.slopes):
         return []
     return [f"a rate written \"{m.group(0)}\" with only zero digits for a value that is not zero "
-            f"(smallest slope written: {min(facts.slopes, key=abs):.3g} per year)" for m in ZERO_RATE.finditer(sentence)]
+            f"(smallest slope written: {min(facts.slopes, key=abs):.3g} per year)"
+            for m in ZERO_RATE.finditer(sentence)]
 
 
 def check_sign_words(sentence: str, facts: Facts) -> list[str]:
@@ -352,14 +353,14 @@ def check_sentences(items: list[tuple[str, str]], facts: Facts) -> list[str]:
     return found
 
 
-def check_numeric_ranges(facts: Facts) -> list[str]:
-    """The ranges themselves, whether or not a sentence writes them."""
+def check_numeric_ranges(facts: Facts, window_written: bool = False) -> list[str]:
+    """The ranges themselves, whether or not a sentence writes them (the window's once: not again when a
+    sentence already showed it too wide)."""
     found = []
-    checks = [("window", facts.window_ci, facts.window_value_range, facts.window_years)]
-    checks.append(("long-term", facts.long_term_ci, facts.reference_value_range, facts.reference_years))
+    checks = [("long-term", facts.long_term_ci, facts.reference_value_range, facts.reference_years)]
+    if facts.window_points >= MIN_RANGE_POINTS and not window_written:
+        checks.append(("window", facts.window_ci, facts.window_value_range, facts.window_years))
     for name, (low, high), spread, years in checks:
-        if name == "window" and facts.window_points < MIN_RANGE_POINTS:
-            continue
         bound = _range_bound(spread, years)
         if (high - low) / 2 > bound:
             found.append(f"wide range: the {name} range {low:.4g} to {high:.4g} per year has half-width "
@@ -371,4 +372,5 @@ def check_numeric_ranges(facts: Facts) -> list[str]:
 def contradictions(result) -> list[str]:
     """Every contradiction between the verdict's words and the audit's numbers; empty when they agree."""
     facts = facts_of(result)
-    return check_sentences(sentences(result.verdict), facts) + check_numeric_ranges(facts)
+    found = check_sentences(sentences(result.verdict), facts)
+    return found + check_numeric_ranges(facts, window_written=any(f.startswith("wide range:") for f in found))
