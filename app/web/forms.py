@@ -12,8 +12,8 @@ from typing import Any
 
 from starlette.datastructures import FormData, UploadFile
 
-from app.api.audits import _number as form_number
-from app.api.covariates import column_names
+from app.service.forms import form_number
+from app.service.covariates import column_names
 from app.audit.claim import CLAIM_KINDS, NOISE_MODELS, RATE_UNITS, AuditOptions
 from app.errors import InputError, Location
 from app.stats.correlate import TRANSFORMS

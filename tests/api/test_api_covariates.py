@@ -5,9 +5,9 @@ from __future__ import annotations
 
 import pytest
 
-import app.api.covariates as covariates_module
-from app.api.covariates import covariate_from_payload
-from app.api.service import series_from_payload
+import app.service.covariates as covariates_module
+from app.service.covariates import covariate_from_payload
+from app.service.payloads import series_from_payload
 from app.audit import AuditOptions, Claim, audit_document, run_audit
 from app.ingest import series_from_json
 from app.stats.adjust import Covariate, fit_covariates

@@ -9,7 +9,7 @@ import threading
 import pytest
 
 import app.api.audits as audits_module
-from app.api.pool import ComputePool
+from app.service.pool import ComputePool
 from app.errors import LimitExceeded, ServiceBusy
 
 from .conftest import assert_problem, audit_body

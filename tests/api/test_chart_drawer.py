@@ -8,8 +8,8 @@ import time
 
 import pytest
 
-from app.api.chart_drawing import ChartDrawer
-from app.api.pool import ComputePool
+from app.service.chart_drawing import ChartDrawer
+from app.service.pool import ComputePool
 from app.errors import NotFound
 from app.report import chart_cache
 from app.report.chart_cache import CHART_RENDERER

@@ -12,10 +12,10 @@ import dataclasses
 from dataclasses import dataclass
 from typing import Any, Sequence
 
-from app.api.columns import extra_column, unusable_column
-from app.api.payloads import series_from_payload, series_payload
 from app.errors import ClaimError, LimitExceeded, Location
 from app.ingest import IngestOptions, ParsedTable, Series, series_from_arrays
+from app.service.columns import extra_column, unusable_column
+from app.service.payloads import series_from_payload, series_payload
 from app.stats.adjust import MAX_COVARIATES, Covariate, default_max_lag
 
 # Lagged copies one covariate may need (candidate lags x response points). The lag search holds them all
