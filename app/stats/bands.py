@@ -15,6 +15,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+from numpy.typing import ArrayLike
 from scipy import stats
 
 from app.stats.ols import TrendFit
@@ -28,6 +29,16 @@ class LineBand:
     upper: np.ndarray | None
 
 
+def band_half_width(t: np.ndarray, *, t_mean: ArrayLike, n: int, residual_sd: ArrayLike,
+                    slope_stderr_white: ArrayLike, slope_stderr: ArrayLike, confidence: float,
+                    dof: float) -> np.ndarray:
+    """Half the band's width at times ``t``; every argument broadcasts, so many fits are banded at once."""
+    inflation = np.asarray(slope_stderr) / np.asarray(slope_stderr_white)
+    level_variance = np.asarray(residual_sd) ** 2 / n * inflation ** 2
+    se = np.sqrt(level_variance + (np.asarray(t) - t_mean) ** 2 * np.asarray(slope_stderr) ** 2)
+    return float(stats.t.ppf(0.5 + confidence / 2, max(dof, 1.0))) * se
+
+
 def line_band(t: np.ndarray, fit: TrendFit, slope_stderr: float, confidence: float, dof: float) -> LineBand:
     """The line of ``fit`` at times ``t`` with its ``confidence`` band, given the slope's standard error
     ``slope_stderr`` under the chosen noise model and that model's degrees of freedom ``dof``."""
@@ -35,8 +46,7 @@ def line_band(t: np.ndarray, fit: TrendFit, slope_stderr: float, confidence: flo
     line = fit.line(t)
     if not (np.isfinite(slope_stderr) and fit.slope_stderr_white > 0):
         return LineBand(time=t, value=line, lower=None, upper=None)
-    inflation = slope_stderr / fit.slope_stderr_white
-    level_variance = fit.residual_sd ** 2 / fit.n * inflation ** 2
-    se = np.sqrt(level_variance + (t - fit.t_mean) ** 2 * slope_stderr ** 2)
-    critical = float(stats.t.ppf(0.5 + confidence / 2, max(dof, 1.0)))
-    return LineBand(time=t, value=line, lower=line - critical * se, upper=line + critical * se)
+    half = band_half_width(t, t_mean=fit.t_mean, n=fit.n, residual_sd=fit.residual_sd,
+                           slope_stderr_white=fit.slope_stderr_white, slope_stderr=slope_stderr,
+                           confidence=confidence, dof=dof)
+    return LineBand(time=t, value=line, lower=line - half, upper=line + half)
