@@ -16,9 +16,10 @@ from pathlib import Path
 from typing import Any, Sequence
 
 from app import __version__
-from app.audit.claim import CLAIM_KINDS, NOISE_MODELS
+from app.audit.claim import NOISE_MODELS
 from app.errors import InputError
 from app.stats.correlate import TRANSFORMS
+from app.vocabulary import CLAIM_KINDS
 
 EXIT_INPUT_ERROR = 2  # the same code argparse uses for a bad command line
 log = logging.getLogger("trendaudit")

@@ -39,6 +39,7 @@ class Rule:
 RULES = (
     Rule("app.errors", ("app",) + WEB_FRAMEWORKS + SQL),
     Rule("app.settings", ("app",) + WEB_FRAMEWORKS + SQL),
+    Rule("app.vocabulary", ("app",) + WEB_FRAMEWORKS + SQL),
     Rule("app.stats", WEB_FRAMEWORKS + SQL + ("matplotlib", "app.ingest") + ABOVE_AUDIT),
     Rule("app.ingest", WEB_FRAMEWORKS + SQL + ("matplotlib", "app.stats") + ABOVE_AUDIT),
     Rule("app.audit", WEB_FRAMEWORKS + SQL + ("matplotlib", "app.correlation", "app.service", "app.report",
@@ -101,7 +102,7 @@ def test_each_package_imports_only_what_the_flow_allows(rule):
 
 def test_every_package_has_a_rule():
     packages = {f"app.{p.name}" for p in APP.iterdir() if p.is_dir() and (p / "__init__.py").exists()}
-    assert packages | {"app.errors", "app.settings", "app.dependencies"} == {rule.package for rule in RULES}
+    assert packages | {"app.errors", "app.settings", "app.vocabulary", "app.dependencies"} == {rule.package for rule in RULES}
 
 
 def test_the_rules_catch_a_front_end_reaching_into_its_sibling():

@@ -11,9 +11,10 @@ from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field
 
-from app.audit.claim import CLAIM_KINDS, NOISE_MODELS, RATE_UNITS
+from app.audit.claim import NOISE_MODELS, RATE_UNITS
 from app.stats.adjust import LAG_RULES, MAX_COVARIATES
 from app.stats.correlate import TRANSFORMS
+from app.vocabulary import CLAIM_KINDS
 
 TREND_METHODS = ("white", "ar1", "arma11", "gls_ar1", "hac")
 Cell = int | float | str | None  # exact types are kept, so the reader sees 1998 and "1998-03" as written

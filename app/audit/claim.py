@@ -7,8 +7,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from app.errors import ClaimError, Location
+from app.vocabulary import CLAIM_KINDS
 
-CLAIM_KINDS = ("pause", "slowdown", "reversal", "acceleration")
 NOISE_MODELS = ("white", "ar1", "arma11")
 RATE_UNITS = {"per year": 1.0, "per decade": 10.0, "per century": 100.0}
 MIN_WINDOW_POINTS = 3

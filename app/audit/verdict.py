@@ -25,12 +25,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-CONSISTENT = "consistent_with_trend"
-CHANGE_SUPPORTED = "trend_change_supported"
-TOO_SHORT = "too_short_to_tell"
-CONTRADICTED = "claim_contradicted"
-NO_TREND = "no_long_term_trend"
-VERDICT_CODES = (CONSISTENT, CHANGE_SUPPORTED, TOO_SHORT, CONTRADICTED, NO_TREND)
+from app.vocabulary import CHANGE_SUPPORTED, CONSISTENT, CONTRADICTED, NO_TREND, TOO_SHORT, VERDICT_CODES  # noqa: F401
 
 MIN_TREND_POINTS = 8  # below this a window's own trend and noise are not worth estimating (common practice, no source)
 

@@ -41,7 +41,6 @@ class RecordKind:
 AUDITS = RecordKind(AUDIT, "audit", "/api/v1/audits", "/audits", AUDIT_CHARTS, audit_data_csv)
 CORRELATIONS = RecordKind(CORRELATION, "driver-and-response audit", "/api/v1/correlations", "/correlations",
                           CORRELATION_CHARTS, correlation_data_csv)
-RECORD_KINDS = {kind.kind: kind for kind in (AUDITS, CORRELATIONS)}
 
 
 def with_article(noun: str) -> str:
