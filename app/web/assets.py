@@ -13,11 +13,10 @@ from app.dependencies import get_runtime
 from app.errors import Location, NotFound
 from app.report.chart_cache import MEDIA_TYPES, chart_file
 from app.service.records import RecordKind
-from app.settings import PROJECT_ROOT
+from app.settings import shipped_dir
 
 router = APIRouter(include_in_schema=False)
 
-STATIC_DIR = PROJECT_ROOT / "static"
 STATIC_TYPES = {"css": "text/css; charset=utf-8", "js": "text/javascript; charset=utf-8", "svg": "image/svg+xml"}
 STATIC_NAME = re.compile(r"[a-z0-9][a-z0-9-]*\.(css|js|svg)")
 CHART_FILE = re.compile(r"([a-z]+)\.(svg|png)")
@@ -27,7 +26,7 @@ STATIC_MAX_AGE = 3600  # an hour: a new release's stylesheet reaches readers the
 @router.get("/static/{name}")
 def static_file(name: str) -> FileResponse:
     match = STATIC_NAME.fullmatch(name)
-    path = STATIC_DIR / name
+    path = shipped_dir("static") / name
     if match is None or not path.is_file():
         raise NotFound(f"no file '{name[:60]}'", location=Location(field="name"), fix="Check the address")
     return FileResponse(path, media_type=STATIC_TYPES[match.group(1)],
