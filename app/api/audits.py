@@ -13,7 +13,8 @@ from app.api.records import Resource, add_record_routes
 from app.api.schemas import AuditOut, AuditPage, AuditRequest
 from app.dependencies import get_runtime
 from app.errors import Location, SeriesFormatError, UnsupportedMediaType
-from app.service.audits import AuditJob, compute_document, job_from_json, store_audit
+from app.service.audits import AuditJob, job_from_json
+from app.service.creating import create_record
 from app.service.forms import job_from_form
 from app.service.records import AUDITS, record_body
 from app.service.runtime import Runtime
@@ -67,9 +68,7 @@ async def create_audit(request: Request, runtime: Runtime = Depends(get_runtime)
     """Send JSON (`AuditRequest`) or a multipart form with a CSV in `file`. The answer holds
     `owner_token` once: keep it to delete the audit. The audit is stored before the answer is sent."""
     job = await job_from_request(request, runtime.settings)
-    document = await runtime.pool.run(compute_document, job)
-    record, owner_token = await run_in_threadpool(store_audit, runtime.audits, job, document)
-    runtime.draw_charts_ahead(record.id, AUDITS.charts)
+    record, owner_token, _document = await create_record(runtime, AUDITS, job)
     body = record_body(AUDITS, record, runtime.settings, owner_token=owner_token)
     return JSONResponse(body, status_code=201, headers={"Location": body["report_url"]})
 

@@ -11,8 +11,8 @@ from app.api.deps import require_api_key
 from app.api.records import Resource, add_record_routes
 from app.api.schemas import CorrelationOut, CorrelationPage, CorrelationRequest
 from app.dependencies import get_runtime
-from app.service.correlations import (CorrelationJob, compute_correlation_document, correlation_job_from_json,
-                                      store_correlation)
+from app.service.correlations import CorrelationJob, correlation_job_from_json
+from app.service.creating import create_record
 from app.service.records import CORRELATIONS, record_body
 from app.service.runtime import Runtime
 from app.settings import Settings
@@ -45,9 +45,7 @@ async def create_correlation(request: Request, runtime: Runtime = Depends(get_ru
     `owner_token` is shown once: keep it to delete the audit."""
     require_json(request)
     job = await run_in_threadpool(_job_from_json_bytes, await request.body(), runtime.settings)
-    document = await runtime.pool.run(compute_correlation_document, job)
-    record, owner_token = await run_in_threadpool(store_correlation, runtime.audits, job, document)
-    runtime.draw_charts_ahead(record.id, CORRELATIONS.charts)
+    record, owner_token, _document = await create_record(runtime, CORRELATIONS, job)
     body = record_body(CORRELATIONS, record, runtime.settings, owner_token=owner_token)
     return JSONResponse(body, status_code=201, headers={"Location": body["report_url"]})
 

@@ -13,7 +13,7 @@ from typing import Any
 from app.report.chart_sets import AUDIT_CHARTS, CORRELATION_CHARTS, ChartSet
 from app.service.csv_export import audit_data_csv, correlation_data_csv
 from app.settings import Settings
-from app.store import AUDIT, CORRELATION, AuditRecord, AuditRepository
+from app.store import AUDIT, CORRELATION, AuditRecord, AuditRepository, Page
 
 
 @dataclass(frozen=True)
@@ -72,8 +72,17 @@ def list_records(audits: AuditRepository, kind: RecordKind, settings: Settings, 
     return {"items": items, "next_cursor": page.next_cursor}
 
 
+def read_record(audits: AuditRepository, kind: RecordKind, record_id: str) -> AuditRecord:
+    return audits.get(record_id, kind=kind.kind)
+
+
+def list_history(audits: AuditRepository, *, limit: int, cursor: str | None) -> Page:
+    """Stored records of every kind, newest first (the desk's history)."""
+    return audits.list(limit=limit, cursor=cursor)
+
+
 def read_body(audits: AuditRepository, kind: RecordKind, record_id: str, settings: Settings) -> dict[str, Any]:
-    return record_body(kind, audits.get(record_id, kind=kind.kind), settings)
+    return record_body(kind, read_record(audits, kind, record_id), settings)
 
 
 def delete_record(audits: AuditRepository, kind: RecordKind, record_id: str, owner_token: str | None) -> None:
@@ -82,5 +91,5 @@ def delete_record(audits: AuditRepository, kind: RecordKind, record_id: str, own
 
 def record_data_csv(audits: AuditRepository, kind: RecordKind, record_id: str) -> tuple[str, str]:
     """The record's data as CSV text, and the file name to download it under."""
-    record = audits.get(record_id, kind=kind.kind)
+    record = read_record(audits, kind, record_id)
     return kind.data_csv(record.input_document, record.result_document), f"trendaudit-{record.id}.csv"

@@ -12,7 +12,7 @@ from fastapi.responses import FileResponse, Response
 from app.dependencies import get_runtime
 from app.errors import Location, NotFound
 from app.report.chart_cache import MEDIA_TYPES, chart_file
-from app.service.records import RecordKind
+from app.service.records import RecordKind, read_record
 from app.settings import shipped_dir
 
 router = APIRouter(include_in_schema=False)
@@ -41,7 +41,7 @@ def chart_response(request: Request, kind: RecordKind, record_id: str, filename:
                        fix="Ask for NAME.svg or NAME.png, e.g. series.svg")
     name, fmt = match.groups()
     runtime = get_runtime(request)
-    record = runtime.audits.get(record_id, kind=kind.kind)
+    record = read_record(runtime.audits, kind, record_id)
     body = chart_file(record.id, record.result_document, name, fmt, kind.charts, runtime.chart_shelf(record.id))
     return Response(body, media_type=MEDIA_TYPES[fmt], headers={
         "Content-Disposition": f'inline; filename="trendaudit-{record.id}-{name}.{fmt}"',

@@ -13,8 +13,7 @@ from fastapi import APIRouter, Request
 from fastapi.responses import HTMLResponse, RedirectResponse
 
 from app.ingest import Series
-from app.service.correlations import (CorrelationJob, compute_correlation_document, correlation_job_from_csv,
-                                      correlation_options, store_correlation)
+from app.service.correlations import CorrelationJob, correlation_job_from_csv, correlation_options
 from app.service.limits import check_string_lengths
 from app.service.payloads import series_payload
 from app.service.records import CORRELATIONS
@@ -57,5 +56,4 @@ def correlation_job(form: DeskForm, filename: str | None, settings: Settings) ->
 
 @router.post("/correlate", response_class=HTMLResponse, response_model=None)
 async def correlate(request: Request) -> HTMLResponse | RedirectResponse:
-    return await run_desk_form(request, check=LINK, make_job=correlation_job, compute=compute_correlation_document,
-                               store=store_correlation, collection=CORRELATIONS)
+    return await run_desk_form(request, check=LINK, make_job=correlation_job, collection=CORRELATIONS)

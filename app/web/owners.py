@@ -16,7 +16,7 @@ from fastapi.responses import HTMLResponse, RedirectResponse, Response
 from app.dependencies import get_runtime
 from app.errors import AccessDenied, TrendAuditError
 from app.report.render import OwnerNotice
-from app.service.records import RecordKind, delete_record
+from app.service.records import RecordKind, delete_record, read_record
 from app.settings import Settings
 from app.web.access import require_access
 from app.web.problems import problem_view
@@ -40,7 +40,7 @@ def created_redirect(request: Request, collection: RecordKind, record_id: str, o
 async def created_page(request: Request, collection: RecordKind, record_id: str) -> Response:
     settings: Settings = request.app.state.settings
     runtime = get_runtime(request)
-    record = await run_in_threadpool(runtime.audits.get, record_id, collection.kind)
+    record = await run_in_threadpool(read_record, runtime.audits, collection, record_id)
     token = (request.cookies.get(CREATED_COOKIE) or "")[:MAX_TOKEN_CHARS]
     if not token:  # already shown, or opened from somewhere else: the report is all there is to see
         return RedirectResponse(collection.report(record.id), status_code=303)

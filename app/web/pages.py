@@ -18,10 +18,11 @@ from fastapi.responses import HTMLResponse, RedirectResponse
 from app.audit import Claim
 from app.dependencies import get_runtime
 from app.errors import AccessDenied, InputError, TrendAuditError
-from app.service.audits import audit_options, compute_document, job_from_csv, store_audit
+from app.service.audits import audit_options, job_from_csv
+from app.service.creating import create_record
 from app.service.limits import check_string_lengths
 from app.service.payloads import series_payload
-from app.service.records import AUDITS, RecordKind
+from app.service.records import AUDITS, RecordKind, list_history
 from app.settings import Settings
 from app.web.access import (check_key, forget_key, has_access, keys_required, remember_key, require_access,
                             safe_next)
@@ -111,7 +112,7 @@ def _job(form: DeskForm, filename: str | None, settings: Settings):
                                input_document={**job.input_document, "series": series_payload(series)})
 
 
-async def run_desk_form(request: Request, *, check: str, make_job: Callable, compute: Callable, store: Callable,
+async def run_desk_form(request: Request, *, check: str, make_job: Callable,
                         collection: RecordKind) -> HTMLResponse | RedirectResponse:
     """Reads the posted form, runs its audit through the service's path and compute pool, stores it, and sends
     the browser to the page that shows the owner token once; a problem comes back on the preview."""
@@ -123,21 +124,17 @@ async def run_desk_form(request: Request, *, check: str, make_job: Callable, com
     form = dataclasses.replace(form, check=check)
     try:
         require_access(request, settings, "Creating an audit")
-        runtime = get_runtime(request)
         job = await run_in_threadpool(make_job, form, filename, settings)
-        document = await runtime.pool.run(compute, job)
-        record, owner_token = await run_in_threadpool(store, runtime.audits, job, document)
+        # The report's charts are drawn now, while the person waits anyway, so the report opens at once.
+        record, owner_token, _document = await create_record(get_runtime(request), collection, job, draw_now=True)
     except TrendAuditError as error:
         return await preview_page(request, form, problem=problem_view(error))
-    # Draw the report's charts now, while the person waits anyway, and keep them, so the report opens at once.
-    await run_in_threadpool(runtime.draw_charts_now, record.id, document, collection.charts)
     return created_redirect(request, collection, record.id, owner_token)
 
 
 @router.post("/audit", response_class=HTMLResponse, response_model=None)
 async def create(request: Request) -> HTMLResponse | RedirectResponse:
-    return await run_desk_form(request, check=TREND, make_job=_job, compute=compute_document, store=store_audit,
-                               collection=AUDITS)
+    return await run_desk_form(request, check=TREND, make_job=_job, collection=AUDITS)
 
 
 # History and access ----------------------------------------------------------------------------------
@@ -157,7 +154,7 @@ async def history(request: Request, cursor: str | None = None) -> HTMLResponse:
     except AccessDenied as error:
         return _key_page(request, error, "/history")
     try:
-        page = await run_in_threadpool(get_runtime(request).audits.list, limit=HISTORY_PAGE_SIZE,
+        page = await run_in_threadpool(list_history, get_runtime(request).audits, limit=HISTORY_PAGE_SIZE,
                                        cursor=(cursor or None) and cursor[:64])
     except InputError as error:
         return html("history.html", status=problem_view(error).status, noindex=True, problem=problem_view(error),

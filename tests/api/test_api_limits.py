@@ -9,7 +9,7 @@ import time
 
 import pytest
 
-import app.api.audits as audits_module
+import app.service.creating as audits_module
 from app.errors import LimitExceeded, ServiceBusy
 from app.service.pool import ComputePool
 
