@@ -17,7 +17,7 @@ from typing import Any, Sequence
 from app import __version__
 from app.audit import AuditOptions, Claim, audit_document, run_audit
 from app.audit.claim import check_claim, check_options
-from app.errors import ClaimError, InputError, LimitExceeded, Location
+from app.errors import ClaimError, InputError, Location
 from app.ingest import IngestOptions, Series, check_window_in_series, read_csv_text, series_from_json
 from app.ingest.cells import CellError
 from app.ingest.numbers import normalise
