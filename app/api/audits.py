@@ -74,6 +74,6 @@ async def create_audit(request: Request, runtime: Runtime = Depends(get_runtime)
 
 
 add_record_routes(router, Resource(
-    AUDITS, noun="audit", id_name="audit_id", id_example="q3mZ0kYtq1bq2VY8h8o0fJcL", out_model=AuditOut,
+    AUDITS, noun="audit", out_model=AuditOut,
     page_model=AuditPage, csv_summary="The audited data with the long-term trend line and residuals",
     csv_example="time,time_label,value,long_term_trend,residual,in_reference,in_window\n1970.5,1970,-0.31,..."))

@@ -51,8 +51,7 @@ async def create_correlation(request: Request, runtime: Runtime = Depends(get_ru
 
 
 add_record_routes(router, Resource(
-    CORRELATIONS, noun="correlation audit", id_name="correlation_id", id_example="Vx0d3kq7b2mYtq1bq2VY8h8o",
-    out_model=CorrelationOut, page_model=CorrelationPage,
+    CORRELATIONS, noun="correlation audit", out_model=CorrelationOut, page_model=CorrelationPage,
     csv_summary="Both series on the response's times, with the fitted response",
     csv_example="time,time_label,response,driver,driver_transformed,fitted_response,residual,shared\n"
                 "1960.5,1960,0.06,315.0,5.75,0.01,0.05,1\n..."))

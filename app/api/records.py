@@ -24,8 +24,6 @@ from app.store.audits import MAX_PAGE_SIZE
 class Resource:
     kind: RecordKind
     noun: str  # as the API's documentation names one record: "audit", "correlation audit"
-    id_name: str  # the path parameter: "audit_id"
-    id_example: str
     out_model: type[BaseModel]
     page_model: type[BaseModel]
     csv_summary: str
@@ -35,8 +33,8 @@ class Resource:
 def add_record_routes(router: APIRouter, resource: Resource) -> None:
     """GET "" (list), GET /{id}, DELETE /{id} and GET /{id}/data.csv on ``router`` for one kind of record."""
     kind, noun = resource.kind, resource.noun
-    record_id_param = Path(alias=resource.id_name, description=f"The {noun}'s id, as returned on creation",
-                           examples=[resource.id_example])
+    record_id_param = Path(alias=kind.id_name, description=f"The {noun}'s id, as returned on creation",
+                           examples=[kind.id_example])
     not_found = {404: {"description": f"No {noun} with that id"}}
 
     @router.get("", response_model=resource.page_model, summary=f"List {noun}s, newest first",
@@ -46,13 +44,13 @@ def add_record_routes(router: APIRouter, resource: Resource) -> None:
               runtime: Runtime = Depends(get_runtime)) -> dict[str, Any]:
         return list_records(runtime.audits, kind, runtime.settings, limit=limit, cursor=cursor)
 
-    @router.get(f"/{{{resource.id_name}}}", response_model=resource.out_model, response_model_exclude_none=False,
+    @router.get(f"/{{{kind.id_name}}}", response_model=resource.out_model, response_model_exclude_none=False,
                 summary=f"Read one {noun} (no key needed: the id is the capability)", responses=not_found,
                 operation_id=f"get_{kind.kind}")
     def get(record_id: str = record_id_param, runtime: Runtime = Depends(get_runtime)) -> JSONResponse:
         return JSONResponse(read_body(runtime.audits, kind, record_id, runtime.settings))
 
-    @router.delete(f"/{{{resource.id_name}}}", status_code=204, summary=f"Delete {with_article(noun)} (needs its owner token)",
+    @router.delete(f"/{{{kind.id_name}}}", status_code=204, summary=f"Delete {with_article(noun)} (needs its owner token)",
                    dependencies=[Depends(require_api_key)], operation_id=f"delete_{kind.kind}",
                    responses={401: {"description": "No owner token"}, 403: {"description": "Wrong owner token"},
                               **not_found})
@@ -62,7 +60,7 @@ def add_record_routes(router: APIRouter, resource: Resource) -> None:
         delete_record(runtime.audits, kind, record_id, x_owner_token)
         return Response(status_code=204)
 
-    @router.get(f"/{{{resource.id_name}}}/data.csv", summary=resource.csv_summary, response_class=Response,
+    @router.get(f"/{{{kind.id_name}}}/data.csv", summary=resource.csv_summary, response_class=Response,
                 operation_id=f"{kind.kind}_data",
                 responses={200: {"content": {"text/csv": {"example": resource.csv_example}}}})
     def data(record_id: str = record_id_param, runtime: Runtime = Depends(get_runtime)) -> Response:

@@ -24,6 +24,8 @@ class RecordKind:
     report_path: str  # "/audits": where its report pages live
     charts: ChartSet
     data_csv: Callable[[dict[str, Any], dict[str, Any]], str]  # (input document, result document) -> CSV text
+    id_name: str  # how addresses name one record's id: "audit_id"
+    id_example: str  # an id as the documentation shows it
 
     @property
     def noun_with_article(self) -> str:
@@ -38,9 +40,10 @@ class RecordKind:
                 "data_url": f"{base}{self.api_path}/{record_id}/data.csv"}
 
 
-AUDITS = RecordKind(AUDIT, "audit", "/api/v1/audits", "/audits", AUDIT_CHARTS, audit_data_csv)
+AUDITS = RecordKind(AUDIT, "audit", "/api/v1/audits", "/audits", AUDIT_CHARTS, audit_data_csv, "audit_id",
+                    "q3mZ0kYtq1bq2VY8h8o0fJcL")
 CORRELATIONS = RecordKind(CORRELATION, "driver-and-response audit", "/api/v1/correlations", "/correlations",
-                          CORRELATION_CHARTS, correlation_data_csv)
+                          CORRELATION_CHARTS, correlation_data_csv, "correlation_id", "Vx0d3kq7b2mYtq1bq2VY8h8o")
 
 
 def with_article(noun: str) -> str:

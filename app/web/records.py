@@ -17,10 +17,10 @@ router = APIRouter(include_in_schema=False)
 reports = APIRouter(tags=["reports"])  # the report pages are part of the documented service
 
 
-def add_record_pages(kind: RecordKind, id_name: str, id_example: str, summary: str) -> None:
-    record_id_param = Path(alias=id_name, description=f"The {kind.noun}'s id, as returned on creation",
-                           examples=[id_example])
-    base = f"{kind.report_path}/{{{id_name}}}"
+def add_record_pages(kind: RecordKind, summary: str) -> None:
+    record_id_param = Path(alias=kind.id_name, description=f"The {kind.noun}'s id, as returned on creation",
+                           examples=[kind.id_example])
+    base = f"{kind.report_path}/{{{kind.id_name}}}"
 
     @reports.get(base, response_class=HTMLResponse, summary=summary, operation_id=f"{kind.kind}_report")
     def report(record_id: str = record_id_param, runtime: Runtime = Depends(get_runtime)) -> HTMLResponse:
@@ -40,5 +40,5 @@ def add_record_pages(kind: RecordKind, id_name: str, id_example: str, summary: s
         return chart_response(request, kind, record_id, filename)
 
 
-add_record_pages(AUDITS, "audit_id", "q3mZ0kYtq1bq2VY8h8o0fJcL", "The audit's report page")
-add_record_pages(CORRELATIONS, "correlation_id", "Vx0d3kq7b2mYtq1bq2VY8h8o", "The correlation audit's report page")
+add_record_pages(AUDITS, "The audit's report page")
+add_record_pages(CORRELATIONS, "The correlation audit's report page")
