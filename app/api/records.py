@@ -50,7 +50,8 @@ def add_record_routes(router: APIRouter, resource: Resource) -> None:
     def get(record_id: str = record_id_param, runtime: Runtime = Depends(get_runtime)) -> JSONResponse:
         return JSONResponse(read_body(runtime.audits, kind, record_id, runtime.settings))
 
-    @router.delete(f"/{{{kind.id_name}}}", status_code=204, summary=f"Delete {with_article(noun)} (needs its owner token)",
+    @router.delete(f"/{{{kind.id_name}}}", status_code=204,
+                   summary=f"Delete {with_article(noun)} (needs its owner token)",
                    dependencies=[Depends(require_api_key)], operation_id=f"delete_{kind.kind}",
                    responses={401: {"description": "No owner token"}, 403: {"description": "Wrong owner token"},
                               **not_found})
