@@ -10,12 +10,12 @@ ENV PYTHONDONTWRITEBYTECODE=1 \
     TRENDAUDIT_HOST=0.0.0.0
 
 WORKDIR /app
-COPY pyproject.toml README.md ./
+COPY pyproject.toml setup.py README.md ./
 COPY app ./app
 COPY templates ./templates
 COPY static ./static
 COPY sample_series ./sample_series
-# Editable, so the app finds templates/, static/ and sample_series/ beside it in /app.
+# Editable, so the app finds sample_series/ beside it in /app (a wheel carries templates/ and static/ too).
 RUN pip install --no-cache-dir -e . && useradd --create-home trendaudit && mkdir -p var && chown trendaudit var
 
 USER trendaudit

@@ -7,7 +7,7 @@ PORT ?= 8000
 
 .PHONY: install run test bench bench-quick samples browser-deps clean
 
-$(VENV)/.installed: pyproject.toml
+$(VENV)/.installed: pyproject.toml setup.py
 	$(PYTHON) -m venv $(VENV)
 	$(PY) -m pip install --quiet --upgrade pip
 	$(PY) -m pip install --quiet -e '.[test]'

@@ -16,9 +16,10 @@ from pathlib import Path
 from typing import Any, Sequence
 
 from app import __version__
-from app.audit.claim import CLAIM_KINDS, NOISE_MODELS
+from app.audit.claim import NOISE_MODELS
 from app.errors import InputError
 from app.stats.correlate import TRANSFORMS
+from app.vocabulary import CLAIM_KINDS
 
 EXIT_INPUT_ERROR = 2  # the same code argparse uses for a bad command line
 log = logging.getLogger("trendaudit")
@@ -125,7 +126,7 @@ def _read(path: Path) -> bytes | None:
 
 
 def _refuse(path: Path, error: InputError) -> int:
-    from app.api.service import rename_fields
+    from app.service.audits import rename_fields
 
     print(f"trendaudit: {path}: {rename_fields(error, FLAGS).detail}", file=sys.stderr)
     return EXIT_INPUT_ERROR
@@ -140,8 +141,8 @@ def _print(title: str, document: dict[str, Any], as_json: bool, text) -> None:
 
 
 def audit(args: argparse.Namespace) -> int:
-    from app.api.covariates import column_names
-    from app.api.service import audit_options, compute_document, job_from_csv, make_claim
+    from app.service.covariates import column_names
+    from app.service.audits import audit_options, compute_document, job_from_csv, make_claim
     from app.settings import Settings
 
     settings = Settings()
@@ -164,8 +165,8 @@ def audit(args: argparse.Namespace) -> int:
 
 
 def correlate(args: argparse.Namespace) -> int:
-    from app.api.correlation_service import (compute_correlation_document, correlation_job_from_csv,
-                                             correlation_options)
+    from app.service.correlations import (compute_correlation_document, correlation_job_from_csv,
+                                          correlation_options)
     from app.settings import Settings
 
     settings = Settings()

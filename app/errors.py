@@ -12,13 +12,14 @@
     └── ServiceBusy                 the compute pool is full; try again later (503 + Retry-After)
 
 Every input error says *where* (a row, a column, a field) and *what to fix*, so a newsroom
-script can point at the cell and a person can correct it. The HTTP mapping lives in one
-place, ``app.api.problems``; nothing below the API knows about status codes.
+script can point at the cell and a person can correct it. Each error's HTTP status is given in one
+place, ``status_for`` below; the JSON API words it as RFC 9457 problem details (``app.api.problems``)
+and the desk as a page (``app.web.problems``).
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any
 
 
@@ -124,20 +125,18 @@ class ServiceBusy(TrendAuditError):
         super().__init__(message, **kwargs)
 
 
-@dataclass
-class ErrorCollector:
-    """Gathers several input faults so a user can fix them in one pass; raises the first kind."""
-
-    errors: list[InputError] = field(default_factory=list)
-
-    def add(self, error: InputError) -> None:
-        self.errors.append(error)
-
-    def raise_if_any(self) -> None:
-        if self.errors:
-            first = self.errors[0]
-            if len(self.errors) > 1:
-                first.extra.setdefault("errors", [
-                    {"detail": e.detail, **e.location.as_dict()} for e in self.errors[:50]
-                ])
-            raise first
+def status_for(error: TrendAuditError) -> int:
+    """The HTTP status that answers ``error``, the same for the JSON API and the desk."""
+    if isinstance(error, LimitExceeded):
+        return 413 if error.body_too_large else 422
+    if isinstance(error, UnsupportedMediaType):
+        return 415
+    if isinstance(error, InputError):
+        return 422
+    if isinstance(error, AccessDenied):
+        return 401 if error.missing_credentials else 403
+    if isinstance(error, NotFound):
+        return 404
+    if isinstance(error, ServiceBusy):
+        return 503
+    return 400

@@ -11,7 +11,15 @@ from pathlib import Path
 from pydantic import Field, field_validator
 from pydantic_settings import BaseSettings, SettingsConfigDict
 
-PROJECT_ROOT = Path(__file__).resolve().parent.parent
+PACKAGE_ROOT = Path(__file__).resolve().parent
+PROJECT_ROOT = PACKAGE_ROOT.parent
+
+
+def shipped_dir(name: str) -> Path:
+    """A folder the app serves from (``templates``, ``static``): inside the package when it was installed from a
+    wheel (setup.py puts them there), else at the top of the source checkout."""
+    packaged = PACKAGE_ROOT / name
+    return packaged if packaged.is_dir() else PROJECT_ROOT / name
 
 
 class Settings(BaseSettings):

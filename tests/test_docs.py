@@ -3,7 +3,7 @@
 import re
 from pathlib import Path
 
-from app.audit.verdict import VERDICT_CODES
+from app.vocabulary import VERDICT_CODES
 from app.main import create_app
 
 ROOT = Path(__file__).resolve().parent.parent

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import csv
 import datetime as dt
-import importlib
 import importlib.util
 import json
 import re
@@ -14,10 +13,11 @@ from pathlib import Path
 import numpy as np
 import pytest
 
+from app.ingest import IngestOptions, read_csv_text
+from app.vocabulary import CLAIM_KINDS
+
 SAMPLES_DIR = Path(__file__).resolve().parent.parent / "sample_series"
 GENERATOR = SAMPLES_DIR / "generate.py"
-# Mirrors app.audit.claim.CLAIM_KINDS; spelled out so this file tests the samples, not the audit package.
-CLAIM_KINDS = {"pause", "slowdown", "reversal", "acceleration"}
 SLUG = re.compile(r"[a-z0-9]+(?:-[a-z0-9]+)*")
 ENTRY_KEYS = {"name", "file", "title", "description", "units", "sampling", "time_column", "value_column",
               "extra_columns", "missing_sentinels", "suggested_claim", "what_to_expect", "rate_unit"}
@@ -243,22 +243,16 @@ def test_glacier_series_marks_six_missing_years_both_ways():
     assert entry["missing_sentinels"] == [-999]
 
 
-# --- through the project's own reader, once it exists ---------------------------------------------------------
+# --- through the project's own reader ---------------------------------------------------------------------
 
 
 @pytest.mark.parametrize("name", sorted(BY_NAME))
 def test_sample_reads_through_the_csv_ingest(name):
-    ingest = importlib.import_module("app.ingest")
-    series_from_csv = getattr(ingest, "series_from_csv", None)
-    if series_from_csv is None:
-        pytest.skip("app.ingest.series_from_csv is not written yet")
-    from app.ingest.options import IngestOptions
-
     entry = BY_NAME[name]
     options = IngestOptions(time_column=entry["time_column"], value_column=entry["value_column"],
                             missing_sentinels=tuple(float(s) for s in entry["missing_sentinels"]))
     text = (SAMPLES_DIR / entry["file"]).read_text(encoding="utf-8")
-    series = series_from_csv(text, options)
+    series = read_csv_text(text, options).series
     t, y = numeric_column(entry, entry["value_column"])
     assert series.sampling == entry["sampling"]
     np.testing.assert_allclose(series.time, t)

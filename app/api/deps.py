@@ -1,35 +1,16 @@
-"""FastAPI dependencies: the process runtime, the settings, and the API-key check."""
+"""The API-key check, as a FastAPI dependency of the routes that create, list and delete."""
 
 from __future__ import annotations
 
-import hashlib
-import hmac
-
-from fastapi import Depends, Request, Security
+from fastapi import Depends, Security
 from fastapi.security import HTTPAuthorizationCredentials, HTTPBearer
 
-from app.api.runtime import Runtime
+from app.dependencies import get_settings
 from app.errors import AccessDenied, Location
+from app.service.access import key_matches
 from app.settings import Settings
 
 bearer = HTTPBearer(auto_error=False, description="One of the keys in TRENDAUDIT_API_KEYS, when that is set.")
-
-
-def get_runtime(request: Request) -> Runtime:
-    return request.app.state.runtime.get()
-
-
-def get_settings(request: Request) -> Settings:
-    return request.app.state.settings
-
-
-def key_matches(given: str, keys: list[str]) -> bool:
-    """Constant-time over the keys: every key is compared, and digests make the lengths equal."""
-    given_digest = hashlib.sha256(given.encode("utf-8")).digest()
-    found = False
-    for key in keys:
-        found |= hmac.compare_digest(given_digest, hashlib.sha256(key.encode("utf-8")).digest())
-    return found
 
 
 def require_api_key(settings: Settings = Depends(get_settings),

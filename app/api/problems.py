@@ -10,35 +10,11 @@ from fastapi.exceptions import RequestValidationError
 from fastapi.responses import JSONResponse
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
-from app.errors import (
-    AccessDenied,
-    InputError,
-    LimitExceeded,
-    NotFound,
-    ServiceBusy,
-    TrendAuditError,
-    UnsupportedMediaType,
-)
+from app.errors import ServiceBusy, TrendAuditError, status_for
 
 PROBLEM_TYPE_BASE = "/problems/"
 PROBLEM_MEDIA_TYPE = "application/problem+json"
 log = logging.getLogger("trendaudit.api")
-
-
-def status_for(error: TrendAuditError) -> int:
-    if isinstance(error, LimitExceeded):
-        return 413 if error.body_too_large else 422
-    if isinstance(error, UnsupportedMediaType):
-        return 415
-    if isinstance(error, InputError):
-        return 422
-    if isinstance(error, AccessDenied):
-        return 401 if error.missing_credentials else 403
-    if isinstance(error, NotFound):
-        return 404
-    if isinstance(error, ServiceBusy):
-        return 503
-    return 400
 
 
 def problem_body(*, status: int, title: str, detail: str, slug: str, instance: str | None = None,

@@ -11,10 +11,11 @@ from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field
 
-from app.audit.claim import CLAIM_KINDS, NOISE_MODELS, RATE_UNITS
+from app.audit.claim import NOISE_MODELS, RATE_UNITS
 from app.stats.adjust import LAG_RULES, MAX_COVARIATES
 from app.stats.correlate import TRANSFORMS
 from app.stats.trend import METHODS as TREND_METHODS
+from app.vocabulary import CLAIM_KINDS
 Cell = int | float | str | None  # exact types are kept, so the reader sees 1998 and "1998-03" as written
 
 ClaimKind = Literal[CLAIM_KINDS]  # type: ignore[valid-type]

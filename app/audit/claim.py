@@ -8,8 +8,8 @@ import numpy as np
 
 from app.errors import ClaimError, Location
 from app.stats.noise import CHOSEN_BY_DATA, NOISE_CHOICES
+from app.vocabulary import CLAIM_KINDS
 
-CLAIM_KINDS = ("pause", "slowdown", "reversal", "acceleration")
 AUTO_NOISE = CHOSEN_BY_DATA  # the default: the noise model the data choose (smallest AICc)
 NOISE_MODELS = NOISE_CHOICES
 RATE_UNITS = {"per year": 1.0, "per decade": 10.0, "per century": 100.0}

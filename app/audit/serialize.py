@@ -1,7 +1,8 @@
-"""One serialiser: the AuditResult as a JSON-ready document.
+"""One serialiser: the AuditResult as a JSON-ready document, and every other trend answer in the same words.
 
 The API answers with this document, the store keeps it, and the HTML report and CSV export render
-from it, so a report can be rebuilt years later from what was stored.
+from it, so a report can be rebuilt years later from what was stored. ``trend_document`` (the trend
+of one series, POST /api/v1/trend) writes its slopes with the same rows as the audit's long-term trend.
 """
 
 from __future__ import annotations
@@ -11,10 +12,13 @@ import math
 from typing import Any
 
 import numpy as np
-from scipy import stats as _scipy_stats
 
 from app.audit.claim import RATE_UNITS, window_mask
 from app.audit.result import AuditResult
+from app.stats.adjust import AdjustmentResult
+from app.stats.bands import line_band
+from app.stats.nonparam import MannKendallResult, SenSlope
+from app.stats.trend import SlopeEstimate, TrendSummary
 
 DOCUMENT_SCHEMA = "trendaudit.audit/1"
 HISTOGRAM_BINS = 40
@@ -40,7 +44,8 @@ def jsonable(value: Any) -> Any:
     return value
 
 
-def _estimate(e) -> dict[str, Any]:
+def estimate_row(e: SlopeEstimate) -> dict[str, Any]:
+    """One slope under one noise model, as every trend answer writes it."""
     return {"method": e.method, "slope": e.slope, "stderr": e.stderr, "ci": list(e.ci), "p_value": e.p_value,
             "n": e.n, "n_effective": e.n_effective, "dof": e.dof}
 
@@ -56,20 +61,6 @@ def _histogram(values: np.ndarray) -> dict[str, Any]:
         return {"edges": [low, high], "counts": [int(values.size)]}
     counts, edges = np.histogram(values, bins=HISTOGRAM_BINS)
     return {"edges": edges, "counts": counts}
-
-
-def _band(t: np.ndarray, fit, stderr: float, confidence: float, dof: float) -> dict[str, Any]:
-    """The fitted line with a pointwise confidence band, the level's error inflated like the slope's."""
-    if not (np.isfinite(stderr) and fit.slope_stderr_white > 0):
-        line = fit.line(t)
-        return {"time": t, "value": line, "lower": None, "upper": None}
-    inflation = stderr / fit.slope_stderr_white
-    tc = t - fit.t_mean
-    level_var = (fit.residual_sd ** 2) / fit.n * inflation ** 2
-    se = np.sqrt(level_var + tc ** 2 * stderr ** 2)
-    crit = float(_scipy_stats.t.ppf(0.5 + confidence / 2, max(dof, 1.0)))
-    line = fit.line(t)
-    return {"time": t, "value": line, "lower": line - crit * se, "upper": line + crit * se}
 
 
 def _change(c) -> dict[str, Any]:
@@ -109,10 +100,8 @@ def _segmentation(seg) -> dict[str, Any]:
             "criterion": {str(k): v for k, v in seg.criterion.items()}, "fitted": seg.fitted}
 
 
-def _adjustment(adjustment) -> dict[str, Any] | None:
-    if adjustment is None:
-        return None
-    fit = adjustment.fit
+def adjustment_fit_row(fit: AdjustmentResult) -> dict[str, Any]:
+    """The fit of trend plus lagged factors, as every answer with covariates writes it."""
     return {
         "factors": [{"name": f.name, "coefficient": f.coefficient, "ci": list(f.ci), "stderr": f.stderr,
                      "p_value": f.p_value, "lag": f.lag, "lag_years": f.lag_years, "variance_share": f.variance_share}
@@ -120,8 +109,36 @@ def _adjustment(adjustment) -> dict[str, Any] | None:
         "residual_sd_raw": fit.residual_sd_raw, "residual_sd_adjusted": fit.residual_sd_adjusted,
         "trend_slope": fit.trend_slope, "trend_ci": list(fit.trend_ci), "n_used": fit.n_used,
         "dropped_times": list(fit.dropped_times), "lag_rule": fit.lag_rule,
-        "audit": audit_document(adjustment.audit),
     }
+
+
+def _adjustment(adjustment) -> dict[str, Any] | None:
+    if adjustment is None:
+        return None
+    return {**adjustment_fit_row(adjustment.fit), "audit": audit_document(adjustment.audit)}
+
+
+def mann_kendall_row(mann_kendall: MannKendallResult, sen: SenSlope) -> dict[str, Any]:
+    return {"p_value": mann_kendall.p_value, "z": mann_kendall.z, "trend": mann_kendall.trend,
+            "sen_slope": sen.slope, "sen_ci": list(sen.ci)}
+
+
+def trend_document(summary: TrendSummary, *, start: float, end: float, confidence: float,
+                   adjustment: AdjustmentResult | None = None, adjustment_noise: str | None = None) -> dict[str, Any]:
+    """One series' trend under every noise model (the chosen one first), as POST /api/v1/trend answers it;
+    the method rows are written as the audit's long-term trend writes them."""
+    chosen = summary.chosen
+    white = next(m for m in summary.methods if m.method == "white")
+    return jsonable({
+        "slope": chosen.slope, "ci": list(chosen.ci), "ci_white": list(white.ci), "stderr": chosen.stderr,
+        "n": chosen.n, "n_effective": chosen.n_effective, "p_value": chosen.p_value,
+        "confidence": confidence, "noise": chosen.method, "years_to_detect": summary.years_to_detect,
+        "start": start, "end": end, "units": "per year",
+        "methods": [{"name": m.method, **estimate_row(m)} for m in summary.methods],
+        "mann_kendall": {**mann_kendall_row(summary.mann_kendall, summary.sen), "tau": summary.mann_kendall.tau},
+        "adjustment": None if adjustment is None else {
+            **adjustment_fit_row(adjustment), "trend_p_value": adjustment.trend_p_value, "noise": adjustment_noise},
+    })
 
 
 def audit_document(result: AuditResult) -> dict[str, Any]:
@@ -145,13 +162,11 @@ def audit_document(result: AuditResult) -> dict[str, Any]:
                     "reasons": list(r.verdict.reasons), "what_would_change": list(r.verdict.what_would_change)},
         "reference": {"start": r.reference.start, "end": r.reference.end, "how": r.reference.how,
                       "note": r.reference.note, "n": int(in_ref.sum())},
-        "long_term": {**_estimate(lt.chosen), "r_squared": lt.fit.r_squared, "confidence": lt.chosen.confidence,
-                      "methods": [_estimate(m) for m in lt.methods],
-                      "mann_kendall": {"p_value": lt.mann_kendall.p_value, "z": lt.mann_kendall.z,
-                                       "trend": lt.mann_kendall.trend, "sen_slope": lt.sen.slope,
-                                       "sen_ci": list(lt.sen.ci)}},
+        "long_term": {**estimate_row(lt.chosen), "r_squared": lt.fit.r_squared, "confidence": lt.chosen.confidence,
+                      "methods": [estimate_row(m) for m in lt.methods],
+                      "mann_kendall": mann_kendall_row(lt.mann_kendall, lt.sen)},
         "noise": {**_noise(r.noise), "selection": _noise_selection(r.noise_selection)},
-        "window": {**_estimate(r.window), "start": claim.start, "end": claim.end,
+        "window": {**estimate_row(r.window), "start": claim.start, "end": claim.end,
                    "first_time": float(series.time[in_win][0]), "last_time": float(series.time[in_win][-1]),
                    "p_value_vs_zero": r.window.p_value,
                    "p_value_vs_long_term": (r.window_stronger if says_faster else r.window_weaker).p_value,
@@ -178,9 +193,9 @@ def audit_document(result: AuditResult) -> dict[str, Any]:
         "whole_record": jsonable(r.whole_record),
         "adjustment": _adjustment(r.adjustment),
         "curves": {"time": series.time, "value": series.value,
-                   "reference_line": _band(series.time[in_ref], lt.fit, lt.chosen.stderr, options.confidence,
-                                           lt.chosen.dof),
-                   "window_line": _band(series.time[in_win], r.window_fit, r.window.stderr, options.confidence,
-                                        r.window.dof)},
+                   "reference_line": line_band(series.time[in_ref], lt.fit, lt.chosen.stderr, options.confidence,
+                                               lt.chosen.dof),
+                   "window_line": line_band(series.time[in_win], r.window_fit, r.window.stderr, options.confidence,
+                                            r.window.dof)},
     }
     return jsonable(doc)

@@ -39,16 +39,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-CONSISTENT = "consistent_with_trend"
-CHANGE_SUPPORTED = "trend_change_supported"
-TOO_SHORT = "too_short_to_tell"
-CONTRADICTED = "claim_contradicted"
-NO_TREND = "no_long_term_trend"
-LEVEL_SHIFT = "level_shift"
-MODEL_DEPENDENT = "depends_on_noise_model"
-OTHER_CHANGE = "change_differs_from_claim"
-VERDICT_CODES = (CONSISTENT, CHANGE_SUPPORTED, TOO_SHORT, CONTRADICTED, NO_TREND, LEVEL_SHIFT, MODEL_DEPENDENT,
-                 OTHER_CHANGE)
+from app.vocabulary import (CHANGE_SUPPORTED, CONSISTENT, CONTRADICTED, LEVEL_SHIFT, MODEL_DEPENDENT,  # noqa: F401
+                             NO_TREND, OTHER_CHANGE, TOO_SHORT, VERDICT_CODES)
 
 MIN_TREND_POINTS = 8  # below this a window's own trend and noise are not worth estimating (common practice, no source)
 

@@ -19,12 +19,8 @@ from __future__ import annotations
 
 from app.correlation.result import CorrelationVerdict
 from app.stats.correlate import WEAK_R, CorrelationNull, CorrelationSet, DriverRegression, RollingCorrelation
+from app.vocabulary import NO_CLEAR_LINK, WEAK_WINDOWS_EXPECTED, WEAK_WINDOWS_UNUSUAL, WINDOWS_AGREE
 
-NO_CLEAR_LINK = "no_clear_link"
-WEAK_WINDOWS_UNUSUAL = "weak_windows_unusual"
-WINDOWS_AGREE = "windows_agree"
-WEAK_WINDOWS_EXPECTED = "weak_windows_expected"
-CORRELATION_CODES = (NO_CLEAR_LINK, WEAK_WINDOWS_UNUSUAL, WINDOWS_AGREE, WEAK_WINDOWS_EXPECTED)
 
 PERSISTENT_PHI = 0.9  # residual memory beyond which the slope's range itself rests on a shaky noise estimate
 LEVELS_GAP = 0.3  # levels' r this much above the detrended r: the shared trend carries the correlation

@@ -5,7 +5,7 @@ holes in the grid are listed on the Series; every rejection is an ``app.errors.I
 where the fault sits and what to do about it.
 """
 
-from app.ingest.csv_reader import ParsedTable, read_csv_text, series_from_csv
+from app.ingest.csv_reader import ParsedTable, read_csv_text
 from app.ingest.json_reader import series_from_arrays, series_from_json
 from app.ingest.options import IngestOptions
 from app.ingest.series import Series
@@ -19,7 +19,6 @@ __all__ = [
     "check_window_in_series",
     "read_csv_text",
     "series_from_arrays",
-    "series_from_csv",
     "series_from_json",
     "validate_series",
 ]

@@ -64,10 +64,6 @@ def read_csv_text(text: str | bytes, options: IngestOptions = IngestOptions()) -
         missing_rows=tuple(table.rows[i] for i in built.missing_indices), gaps=built.gap_labels)
 
 
-def series_from_csv(text: str | bytes, options: IngestOptions = IngestOptions()) -> Series:
-    return read_csv_text(text, options).series
-
-
 def _time_cells(table: RawTable, choice: ColumnChoice) -> list[str]:
     if choice.month is None:
         return [row[choice.time] for row in table.cells]

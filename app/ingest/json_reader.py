@@ -14,8 +14,6 @@ from app.ingest.locations import FieldPlaces
 from app.ingest.options import IngestOptions, check_options
 from app.ingest.series import Series
 
-KNOWN_KEYS = ("time", "value", "label", "units")
-
 
 def series_from_json(obj: Any, options: IngestOptions = IngestOptions(), field: str = "series") -> Series:
     check_options(options)

@@ -12,23 +12,25 @@ from typing import Any
 from urllib.parse import urlsplit
 
 from app.report.numbers import Rate, format_p, format_percent, format_probability, format_years, is_number, time_of
+from app.vocabulary import (ACCELERATION, CHANGE_SUPPORTED, CONSISTENT, CONTRADICTED, LEVEL_SHIFT, MODEL_DEPENDENT,
+                            NO_TREND, OTHER_CHANGE, PAUSE, REVERSAL, SLOWDOWN, TOO_SHORT)
 
 VERDICT_LABELS = {
-    "consistent_with_trend": "Consistent with the long-term trend",
-    "trend_change_supported": "A change in trend is supported",
-    "too_short_to_tell": "Too short to tell",
-    "claim_contradicted": "The data contradict the claim",
-    "no_long_term_trend": "No long-term trend to compare with",
-    "level_shift": "A jump in level, not a change in trend",
-    "depends_on_noise_model": "Support depends on the noise model",
-    "change_differs_from_claim": "A change, but not the one claimed",
+    CONSISTENT: "Consistent with the long-term trend",
+    CHANGE_SUPPORTED: "A change in trend is supported",
+    TOO_SHORT: "Too short to tell",
+    CONTRADICTED: "The data contradict the claim",
+    NO_TREND: "No long-term trend to compare with",
+    LEVEL_SHIFT: "A jump in level, not a change in trend",
+    MODEL_DEPENDENT: "Support depends on the noise model",
+    OTHER_CHANGE: "A change, but not the one claimed",
 }
 
 CLAIM_WORDS = {
-    "pause": "a pause",
-    "slowdown": "a slowdown",
-    "reversal": "a reversal",
-    "acceleration": "an acceleration",
+    PAUSE: "a pause",
+    SLOWDOWN: "a slowdown",
+    REVERSAL: "a reversal",
+    ACCELERATION: "an acceleration",
 }
 
 METHOD_LABELS = {

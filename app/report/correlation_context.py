@@ -12,12 +12,13 @@ from typing import Any
 
 from app.report.context import NOISE_WORDS, KeyNumber, Links, ProvenanceRow, SourceView, created_text, source_view_of
 from app.report.numbers import format_percent, format_time, is_number, shared_decimals
+from app.vocabulary import NO_CLEAR_LINK, WEAK_WINDOWS_EXPECTED, WEAK_WINDOWS_UNUSUAL, WINDOWS_AGREE
 
 CORRELATION_VERDICT_LABELS = {
-    "no_clear_link": "No clear link over the whole record",
-    "weak_windows_unusual": "Short windows weaker than the link explains",
-    "windows_agree": "Every window moves with the driver",
-    "weak_windows_expected": "Weak short windows are expected",
+    NO_CLEAR_LINK: "No clear link over the whole record",
+    WEAK_WINDOWS_UNUSUAL: "Short windows weaker than the link explains",
+    WINDOWS_AGREE: "Every window moves with the driver",
+    WEAK_WINDOWS_EXPECTED: "Weak short windows are expected",
 }
 TRANSFORM_WORDS = {
     "none": "the driver as given",

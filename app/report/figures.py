@@ -213,10 +213,6 @@ def inline_svg(fig: Figure, name: str, title: str, description: str) -> str:
     return as_inline(labelled_svg(fig, name, title, description))
 
 
-def standalone_svg(fig: Figure, name: str, title: str, description: str) -> str:
-    return as_standalone(labelled_svg(fig, name, title, description))
-
-
 def png_bytes(fig: Figure, dpi: int = PNG_DPI) -> bytes:
     buffer = io.BytesIO()
     with matplotlib.rc_context(STYLE):

@@ -31,14 +31,3 @@ DRIVER = "#c24f00"  # a driver beside its response (the response keeps LONG_TERM
 # slower, white where the same. Blue-to-orange diverging maps stay readable for red-green deficiency.
 SLOPE_DIVERGING = LinearSegmentedColormap.from_list(
     "skerry_diverging", ["#a33f00", "#e89a5c", "#f7f5f0", "#6aa7d0", "#084d78"])
-
-VERDICT_ACCENTS = {
-    "consistent_with_trend": LONG_TERM,
-    "trend_change_supported": WINDOW,
-    "too_short_to_tell": MUTED,
-    "claim_contradicted": MARK,
-    "no_long_term_trend": MUTED,
-    "level_shift": MARK,
-    "depends_on_noise_model": MUTED,
-    "change_differs_from_claim": WINDOW,
-}

@@ -11,7 +11,6 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass
-from pathlib import Path
 from typing import Any
 
 from jinja2 import Environment, FileSystemLoader, StrictUndefined, select_autoescape
@@ -25,18 +24,16 @@ from app.report.charts import CHART_NAMES
 from app.report.context import ReportContext, report_context
 from app.report.correlation_context import correlation_context
 from app.report.palette import PALETTE_NAME
-from app.settings import PROJECT_ROOT
-
-TEMPLATES_DIR = PROJECT_ROOT / "templates"
+from app.settings import shipped_dir
 
 _environment: Environment | None = None
 
 
-def environment(directory: Path = TEMPLATES_DIR) -> Environment:
+def environment() -> Environment:
     """One Jinja2 environment per process: templates are parsed once, autoescaped always."""
     global _environment
     if _environment is None:
-        env = Environment(loader=FileSystemLoader(str(directory)),
+        env = Environment(loader=FileSystemLoader(str(shipped_dir("templates"))),
                           autoescape=select_autoescape(enabled_extensions=("html", "svg"), default=True),
                           undefined=StrictUndefined, trim_blocks=True, lstrip_blocks=True)
         env.globals.update(software_version=__version__, palette_name=PALETTE_NAME)

@@ -1,7 +1,9 @@
-"""The browser desk: HTML pages for starting, checking and browsing audits, and the files they need."""
+"""The browser desk: HTML pages for starting, checking and browsing audits, the report pages, and the files
+they need."""
 
-from app.web import assets, linking, owners, pages
+from app.web import assets, linking, pages, records
 
-routers = (pages.router, linking.router, owners.router, assets.router)
+routers = (pages.router, linking.router, records.router, records.reports, assets.router)
 
 __all__ = ["routers"]
+

@@ -3,7 +3,7 @@
 When ``TRENDAUDIT_API_KEYS`` is set, creating and listing audits need a key; reading one report by
 its link never does. A browser cannot send an Authorization header from a plain form, so the desk
 asks for the key once, keeps it in an HttpOnly, SameSite=Strict cookie (scripts cannot read it and
-other sites cannot make the browser send it), and checks it on every request with the API's own
+other sites cannot make the browser send it), and checks it on every request with the service's
 constant-time comparison.
 """
 
@@ -12,7 +12,7 @@ from __future__ import annotations
 from fastapi import Request
 from starlette.responses import Response
 
-from app.api.deps import key_matches
+from app.service.access import key_matches
 from app.errors import AccessDenied, Location
 from app.settings import Settings
 

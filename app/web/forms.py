@@ -12,12 +12,13 @@ from typing import Any
 
 from starlette.datastructures import FormData, UploadFile
 
-from app.api.audits import _number as form_number
-from app.api.covariates import column_names
-from app.audit.claim import CLAIM_KINDS, NOISE_MODELS, RATE_UNITS, AuditOptions
+from app.audit.claim import NOISE_MODELS, RATE_UNITS, AuditOptions
 from app.errors import InputError, Location
-from app.stats.correlate import TRANSFORMS
+from app.service.covariates import column_names
+from app.service.forms import form_number
 from app.settings import Settings
+from app.stats.correlate import TRANSFORMS
+from app.vocabulary import ACCELERATION, CLAIM_KINDS, PAUSE, REVERSAL, SLOWDOWN
 
 TEXT_FIELDS = ("table", "sample", "title", "label", "units", "time_column", "value_column", "claim_start",
                "claim_end", "claim_kind", "reference_start", "reference_end", "confidence", "noise", "simulations",
@@ -140,10 +141,10 @@ def with_defaults(form: DeskForm, **defaults: str) -> DeskForm:
 
 
 CLAIM_KIND_WORDS = {
-    "pause": "A pause: the trend stopped",
-    "slowdown": "A slowdown: the trend weakened",
-    "reversal": "A reversal: the trend turned the other way",
-    "acceleration": "An acceleration: the trend grew stronger",
+    PAUSE: "A pause: the trend stopped",
+    SLOWDOWN: "A slowdown: the trend weakened",
+    REVERSAL: "A reversal: the trend turned the other way",
+    ACCELERATION: "An acceleration: the trend grew stronger",
 }
 NOISE_MODEL_WORDS = {
     "ar1": "AR(1): each year leans on the last (recommended)",

@@ -2,7 +2,7 @@
 
 It starts from the same preview as a claim audit (the person switches the form to "driver and
 response"), reads the table again exactly as previewed, and runs through the service's own path for
-correlation audits (``app.api.correlation_service``) and compute pool.
+correlation audits (``app.service.correlations``) and compute pool.
 """
 
 from __future__ import annotations
@@ -12,15 +12,13 @@ import dataclasses
 from fastapi import APIRouter, Request
 from fastapi.responses import HTMLResponse, RedirectResponse
 
-from app.api.correlation_service import (CorrelationJob, compute_correlation_document, correlation_job_from_csv,
-                                         correlation_options, store_correlation)
-from app.api.limits import check_string_lengths
-from app.api.payloads import series_payload
 from app.ingest import Series
-from app.report.chart_sets import CORRELATION_CHARTS
+from app.service.correlations import CorrelationJob, correlation_job_from_csv, correlation_options
+from app.service.limits import check_string_lengths
+from app.service.payloads import series_payload
+from app.service.records import CORRELATIONS
 from app.settings import Settings
 from app.web.forms import LINK, DeskForm
-from app.web.owners import CORRELATIONS
 from app.web.pages import run_desk_form
 from app.web.reading import ingest_options, read_table, required, sample_filled, table_text
 
@@ -58,5 +56,4 @@ def correlation_job(form: DeskForm, filename: str | None, settings: Settings) ->
 
 @router.post("/correlate", response_class=HTMLResponse, response_model=None)
 async def correlate(request: Request) -> HTMLResponse | RedirectResponse:
-    return await run_desk_form(request, check=LINK, make_job=correlation_job, compute=compute_correlation_document,
-                               store=store_correlation, collection=CORRELATIONS, charts=CORRELATION_CHARTS)
+    return await run_desk_form(request, check=LINK, make_job=correlation_job, collection=CORRELATIONS)

@@ -9,47 +9,26 @@ the history, logs and Referer headers; once shown, the link just opens the repor
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
-from fastapi import APIRouter, Request
+from fastapi import Request
 from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import HTMLResponse, RedirectResponse, Response
 
+from app.dependencies import get_runtime
 from app.errors import AccessDenied, TrendAuditError
-from app.report.render import OwnerNotice, render_correlation_report, render_report
+from app.report.render import OwnerNotice
+from app.service.records import RecordKind, delete_record, read_record
 from app.settings import Settings
-from app.store import AUDIT, CORRELATION
 from app.web.access import require_access
 from app.web.problems import problem_view
-from app.web.responses import NO_STORE, html, html_response, is_secure, runtime_of
-
-router = APIRouter(include_in_schema=False)
+from app.web.reports import RENDERERS
+from app.web.responses import NO_STORE, html, html_response, is_secure
 
 CREATED_COOKIE = "trendaudit_created"
 CREATED_COOKIE_SECONDS = 600  # long enough to follow the redirect on a slow connection, short enough to forget
 MAX_TOKEN_CHARS = 200
 
 
-@dataclass(frozen=True)
-class Collection:
-    kind: str
-    path: str  # "/audits": where its reports live
-    noun: str
-    api_path: str
-
-    @property
-    def noun_with_article(self) -> str:
-        return f"{'an' if self.noun[0] in 'aeiou' else 'a'} {self.noun}"
-
-    def report(self, record_id: str) -> str:
-        return f"{self.path}/{record_id}"
-
-
-AUDITS = Collection(AUDIT, "/audits", "audit", "/api/v1/audits")
-CORRELATIONS = Collection(CORRELATION, "/correlations", "driver-and-response audit", "/api/v1/correlations")
-
-
-def created_redirect(request: Request, collection: Collection, record_id: str, owner_token: str) -> RedirectResponse:
+def created_redirect(request: Request, collection: RecordKind, record_id: str, owner_token: str) -> RedirectResponse:
     """Sends the browser to the page that shows the new record's owner token, once."""
     page = f"{collection.report(record_id)}/created"
     response = RedirectResponse(page, status_code=303)
@@ -58,15 +37,15 @@ def created_redirect(request: Request, collection: Collection, record_id: str, o
     return response
 
 
-async def _created_page(request: Request, collection: Collection, record_id: str) -> Response:
+async def created_page(request: Request, collection: RecordKind, record_id: str) -> Response:
     settings: Settings = request.app.state.settings
-    runtime = runtime_of(request)
-    record = await run_in_threadpool(runtime.audits.get, record_id, collection.kind)
+    runtime = get_runtime(request)
+    record = await run_in_threadpool(read_record, runtime.audits, collection, record_id)
     token = (request.cookies.get(CREATED_COOKIE) or "")[:MAX_TOKEN_CHARS]
     if not token:  # already shown, or opened from somewhere else: the report is all there is to see
         return RedirectResponse(collection.report(record.id), status_code=303)
     notice = OwnerNotice(token=token, noun=collection.noun, api_url=f"{collection.api_path}/{record.id}")
-    render = render_correlation_report if collection is CORRELATIONS else render_report
+    render = RENDERERS[collection.kind]
     body = await run_in_threadpool(lambda: render(record, base_url=settings.public_base_url, owner=notice,
                                                   shelf=runtime.chart_shelf(record.id)))
     response = html_response(body, headers=NO_STORE)
@@ -75,24 +54,14 @@ async def _created_page(request: Request, collection: Collection, record_id: str
     return response
 
 
-@router.get("/audits/{audit_id}/created", response_class=HTMLResponse, response_model=None)
-async def audit_created(request: Request, audit_id: str) -> Response:
-    return await _created_page(request, AUDITS, audit_id)
-
-
-@router.get("/correlations/{correlation_id}/created", response_class=HTMLResponse, response_model=None)
-async def correlation_created(request: Request, correlation_id: str) -> Response:
-    return await _created_page(request, CORRELATIONS, correlation_id)
-
-
-def _not_deleted(collection: Collection, error: TrendAuditError, *, back: str | None,
+def _not_deleted(collection: RecordKind, error: TrendAuditError, *, back: str | None,
                  key_link: bool = False) -> HTMLResponse:
     problem = problem_view(error)
     return html("notice.html", status=problem.status, noindex=True, problem=problem, back=back, key_link=key_link,
                 heading=f"The {collection.noun} was not deleted", message="", page_title="Not deleted - Trend Audit")
 
 
-async def _delete(request: Request, collection: Collection, record_id: str) -> Response:
+async def delete_page(request: Request, collection: RecordKind, record_id: str) -> Response:
     settings: Settings = request.app.state.settings
     async with request.form(max_files=0, max_fields=5) as raw:
         token = str(raw.get("owner_token") or "").strip()[:MAX_TOKEN_CHARS]
@@ -102,7 +71,7 @@ async def _delete(request: Request, collection: Collection, record_id: str) -> R
     except AccessDenied as error:
         return _not_deleted(collection, error, back=back, key_link=True)
     try:
-        await run_in_threadpool(runtime_of(request).audits.delete, record_id, token or None, collection.kind)
+        await run_in_threadpool(delete_record, get_runtime(request).audits, collection, record_id, token or None)
     except AccessDenied as error:
         # The store words its refusal for API callers (a header); in the browser the token goes in the form.
         error.fix = f"Type the owner token shown once when the {collection.noun} was created"
@@ -114,13 +83,3 @@ async def _delete(request: Request, collection: Collection, record_id: str) -> R
                 message="Its report, its charts and its data are gone from this service, and its link no longer "
                         "works. Copies already downloaded or printed are not affected.",
                 page_title="Deleted - Trend Audit")
-
-
-@router.post("/audits/{audit_id}/delete", response_class=HTMLResponse, response_model=None)
-async def delete_audit(request: Request, audit_id: str) -> Response:
-    return await _delete(request, AUDITS, audit_id)
-
-
-@router.post("/correlations/{correlation_id}/delete", response_class=HTMLResponse, response_model=None)
-async def delete_correlation(request: Request, correlation_id: str) -> Response:
-    return await _delete(request, CORRELATIONS, correlation_id)

@@ -2,7 +2,7 @@
 
 Plain HTML forms posting to plain routes, so the desk works without JavaScript. Every input problem
 comes back as the same page with the message at the top (what, where, what to do) and a 4xx status;
-the audit itself runs through the service's own path (``app.api.service``) and compute pool. The
+the audit itself runs through the service's own path (``app.service.audits``) and compute pool. The
 driver-and-response audit starts from the same preview (``app.web.linking``).
 """
 
@@ -15,23 +15,25 @@ from fastapi import APIRouter, Request
 from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import HTMLResponse, RedirectResponse
 
-from app.api.limits import check_string_lengths
-from app.api.service import audit_options, compute_document, job_from_csv, series_payload, store_audit
 from app.audit import Claim
+from app.dependencies import get_runtime
 from app.errors import AccessDenied, InputError, TrendAuditError
-from app.report.chart_cache import prepared_charts
-from app.report.chart_sets import AUDIT_CHARTS, ChartSet
+from app.service.audits import audit_options, job_from_csv
+from app.service.creating import create_record
+from app.service.limits import check_string_lengths
+from app.service.payloads import series_payload
+from app.service.records import AUDITS, RecordKind, list_history
 from app.settings import Settings
 from app.web.access import (check_key, forget_key, has_access, keys_required, remember_key, require_access,
                             safe_next)
 from app.web.forms import LINK, TREND, DeskForm, form_choices
-from app.web.owners import AUDITS, Collection, created_redirect
+from app.web.owners import created_redirect
 from app.web.periods import first_time_in, last_time_in
 from app.web.preview import PreviewView, preview_view
 from app.web.problems import ProblemView, problem_view
 from app.web.reading import (chosen_columns, ingest_options, posted_form, read_table, required, sample_filled,
                              samples, table_text)
-from app.web.responses import html, is_secure, runtime_of
+from app.web.responses import html, is_secure
 
 router = APIRouter(include_in_schema=False)
 
@@ -110,8 +112,8 @@ def _job(form: DeskForm, filename: str | None, settings: Settings):
                                input_document={**job.input_document, "series": series_payload(series)})
 
 
-async def run_desk_form(request: Request, *, check: str, make_job: Callable, compute: Callable, store: Callable,
-                        collection: Collection, charts: ChartSet) -> HTMLResponse | RedirectResponse:
+async def run_desk_form(request: Request, *, check: str, make_job: Callable,
+                        collection: RecordKind) -> HTMLResponse | RedirectResponse:
     """Reads the posted form, runs its audit through the service's path and compute pool, stores it, and sends
     the browser to the page that shows the owner token once; a problem comes back on the preview."""
     settings: Settings = request.app.state.settings
@@ -122,21 +124,17 @@ async def run_desk_form(request: Request, *, check: str, make_job: Callable, com
     form = dataclasses.replace(form, check=check)
     try:
         require_access(request, settings, "Creating an audit")
-        runtime = runtime_of(request)
         job = await run_in_threadpool(make_job, form, filename, settings)
-        document = await runtime.pool.run(compute, job)
-        record, owner_token = await run_in_threadpool(store, runtime.audits, job, document)
+        # The report's charts are drawn now, while the person waits anyway, so the report opens at once.
+        record, owner_token, _document = await create_record(get_runtime(request), collection, job, draw_now=True)
     except TrendAuditError as error:
         return await preview_page(request, form, problem=problem_view(error))
-    # Draw the report's charts now, while the person waits anyway, and keep them, so the report opens at once.
-    await run_in_threadpool(prepared_charts, record.id, document, charts, runtime.charts)
     return created_redirect(request, collection, record.id, owner_token)
 
 
 @router.post("/audit", response_class=HTMLResponse, response_model=None)
 async def create(request: Request) -> HTMLResponse | RedirectResponse:
-    return await run_desk_form(request, check=TREND, make_job=_job, compute=compute_document, store=store_audit,
-                               collection=AUDITS, charts=AUDIT_CHARTS)
+    return await run_desk_form(request, check=TREND, make_job=_job, collection=AUDITS)
 
 
 # History and access ----------------------------------------------------------------------------------
@@ -156,7 +154,7 @@ async def history(request: Request, cursor: str | None = None) -> HTMLResponse:
     except AccessDenied as error:
         return _key_page(request, error, "/history")
     try:
-        page = await run_in_threadpool(runtime_of(request).audits.list, limit=HISTORY_PAGE_SIZE,
+        page = await run_in_threadpool(list_history, get_runtime(request).audits, limit=HISTORY_PAGE_SIZE,
                                        cursor=(cursor or None) and cursor[:64])
     except InputError as error:
         return html("history.html", status=problem_view(error).status, noindex=True, problem=problem_view(error),

@@ -7,12 +7,12 @@ from dataclasses import dataclass
 from markupsafe import Markup
 
 from app.ingest import ParsedTable
+from app.ingest.csv_table import DELIMITER_NAMES
 from app.ingest.sampling import period_label
 from app.report.charts import preview_chart
 from app.report.figures import inline_svg
 
 SHOWN_PROBLEMS = 12
-DELIMITER_NAMES = {",": "commas", ";": "semicolons", "\t": "tabs", "|": "vertical bars", " ": "spaces"}
 SAMPLING_WORDS = {"annual": "once a year", "quarterly": "once a quarter", "monthly": "once a month",
                   "irregular": "at irregular times"}
 
@@ -60,7 +60,7 @@ def preview_view(table: ParsedTable) -> PreviewView:
         gaps=table.gaps[:SHOWN_PROBLEMS], n_gaps=len(table.gaps), sampling=series.sampling,
         sampling_words=SAMPLING_WORDS.get(series.sampling, series.sampling),
         first=_label(series.start, series.sampling), last=_label(series.end, series.sampling),
-        delimiter=DELIMITER_NAMES.get(table.delimiter, repr(table.delimiter)),
+        delimiter=f"{DELIMITER_NAMES[table.delimiter]}s",  # "commas"
         extra_columns=tuple(table.extra_columns), notes=tuple(series.notes), chart=Markup(chart))
 
 

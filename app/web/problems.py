@@ -4,8 +4,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from app.api.problems import status_for
-from app.errors import TrendAuditError
+from app.errors import TrendAuditError, status_for
 
 FIELD_LABELS = {
     "file": "the uploaded file",

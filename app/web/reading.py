@@ -11,7 +11,7 @@ from typing import Any
 
 from fastapi import Request
 
-from app.api.samples import find_sample, load_catalog
+from app.service.samples import find_sample, load_catalog
 from app.errors import InputError, Location
 from app.ingest import IngestOptions, ParsedTable, read_csv_text
 from app.ingest.decode import decode_text

@@ -1,4 +1,4 @@
-"""How the desk answers: HTML pages with the desk's headers, and the per-process runtime."""
+"""How the desk answers: HTML pages with the desk's headers."""
 
 from __future__ import annotations
 
@@ -7,15 +7,10 @@ from typing import Any
 from fastapi import Request
 from fastapi.responses import HTMLResponse
 
-from app.api.runtime import Runtime
 from app.report.render import render_page
 
 NOINDEX = {"X-Robots-Tag": "noindex, nofollow"}
 NO_STORE = {"Cache-Control": "no-store"}  # pages that show a secret once must not be kept by any cache
-
-
-def runtime_of(request: Request) -> Runtime:
-    return request.app.state.runtime.get()
 
 
 def is_secure(request: Request) -> bool:

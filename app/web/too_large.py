@@ -1,8 +1,8 @@
 """A body over the size limit, answered as a desk page when a browser sent it.
 
-The body-size middleware (``app.api.limits.BodySizeLimit``) refuses an oversized body before any route
-runs, with an RFC 9457 problem in JSON: right for API clients, a dead end for a person who chose too
-big a file in the desk's form. ``too_large_page`` is its hook for requests that ask for HTML: the
+The body-size middleware (``BodySizeLimit``, wired around the app in ``app.main``) refuses an oversized
+body before any route runs, with an RFC 9457 problem in JSON: right for API clients, a dead end for a
+person who chose too big a file in the desk's form. ``too_large_page`` is its hook for requests that ask for HTML: the
 desk's first page again, with the problem said at the top, still with status 413.
 """
 

@@ -16,7 +16,7 @@ from pathlib import Path
 
 from fastapi.testclient import TestClient
 
-from app.api.service import compute_document, prepare_job, store_audit
+from app.service.audits import compute_document, prepare_job, store_audit
 from app.audit import AuditOptions
 from app.main import create_app
 from app.report.chart_cache import clear_chart_cache, draw_charts

@@ -8,7 +8,7 @@ import io
 import numpy as np
 import pytest
 
-from app.api.service import series_from_payload
+from app.service.payloads import series_from_payload
 from app.audit import AuditOptions, Claim, audit_document, run_audit
 
 from .conftest import TEST_SIMULATIONS, assert_problem, audit_body, csv_text, invented_series, numbers_only

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from app.api.deps import key_matches
+from app.service.access import key_matches
 
 from .conftest import assert_problem, audit_body
 from .test_api_correlations import correlation_request
@@ -95,7 +95,7 @@ def test_key_matching_compares_every_key_in_constant_time(monkeypatch):
     """Each configured key is compared through hmac.compare_digest on equal-length digests, with no early exit."""
     import hmac
 
-    import app.api.deps as deps
+    import app.service.access as access
 
     calls = []
     real = hmac.compare_digest
@@ -104,7 +104,7 @@ def test_key_matching_compares_every_key_in_constant_time(monkeypatch):
         calls.append((len(a), len(b)))
         return real(a, b)
 
-    monkeypatch.setattr(deps.hmac, "compare_digest", spy)
+    monkeypatch.setattr(access.hmac, "compare_digest", spy)
     assert key_matches("one", ["one", "two", "three"])
     assert len(calls) == 3  # the match on the first key did not stop the loop
     assert {a for a, _ in calls} == {b for _, b in calls} == {32}

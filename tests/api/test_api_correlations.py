@@ -9,8 +9,8 @@ import math
 
 import pytest
 
-from app.api.csv_export import correlation_data_csv
-from app.api.service import series_from_payload
+from app.service.csv_export import correlation_data_csv
+from app.service.payloads import series_from_payload
 from app.correlation import CorrelationOptions, correlation_document, run_correlation
 from app.ingest import series_from_json
 

@@ -5,11 +5,10 @@ from __future__ import annotations
 
 import pytest
 
-import app.api.covariates as covariates_module
-from app.api.covariates import covariate_from_payload
-from app.api.service import series_from_payload
+import app.service.covariates as covariates_module
 from app.audit import AuditOptions, Claim, audit_document, run_audit
 from app.ingest import series_from_json
+from app.service.payloads import series_from_payload
 from app.stats.adjust import Covariate, fit_covariates
 
 from .conftest import TEST_SIMULATIONS, assert_problem, audit_body
@@ -59,7 +58,9 @@ def test_the_stored_inputs_with_covariates_rerun_to_the_stored_result(client, ad
     stored = record.input_document
     (payload,) = stored["covariates"]
     assert payload["name"] == "ENSO-like index" and payload["max_lag"] is None
-    covariates = [covariate_from_payload(c).covariate for c in stored["covariates"]]
+    covariates = [Covariate(name=c["name"], time=series_from_payload(c["series"]).time,
+                            value=series_from_payload(c["series"]).value, max_lag=c["max_lag"])
+                  for c in stored["covariates"]]
     rerun = run_audit(series_from_payload(stored["series"]), Claim(**stored["claim"]), AuditOptions(**stored["options"]),
                       covariates=covariates)
     assert audit_document(rerun) == record.result_document

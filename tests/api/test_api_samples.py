@@ -6,7 +6,7 @@ import json
 
 import pytest
 
-from app.api.service import claim_time
+from app.service.audits import claim_time
 from app.settings import PROJECT_ROOT
 
 from .conftest import assert_problem

@@ -8,7 +8,7 @@ import pytest
 from app.ingest import series_from_json
 from app.stats.trend import METHODS, summarise_trend
 
-from .conftest import assert_problem, invented_series
+from .conftest import TEST_SIMULATIONS, assert_problem, audit_body, invented_series
 
 
 def post_trend(client, **body):
@@ -94,3 +94,25 @@ def test_too_many_points_for_trend(make_client):
     client = make_client(max_points=30)
     body = assert_problem(post_trend(client), 422)
     assert body["where"]["field"].startswith("series")
+
+
+def test_trend_method_rows_are_written_as_the_audits_long_term_rows(client):
+    """One serialiser: over the same series and window, /trend's rows are the audit's long-term rows. On a
+    record with no detected change the audit's AR(1) noise comes from the same straight-line residuals
+    (to within rounding), so the numbers agree too."""
+    created = client.post("/api/v1/audits", json=audit_body(options={
+        "simulations": TEST_SIMULATIONS, "seed": 5, "noise": "ar1", "reference_start": 1950,
+        "reference_end": 2024.5})).json()
+    assert created["segments"]["n_breaks"] == 0 and created["reference"]["n"] == 75
+    trend = post_trend(client, start=1950, end=2024.5, noise="ar1").json()
+    long_term = created["long_term"]
+    assert [row["name"] for row in trend["methods"]] == [row["method"] for row in long_term["methods"]]
+    for row, audit_row in zip(trend["methods"], long_term["methods"]):
+        assert set(row) - {"name"} <= set(audit_row)
+        # The audit hands its fitted AR(1) model to every row, so its ARMA(1,1) row takes that model's
+        # inflation where /trend fits an ARMA(1,1) of its own: that row shares the slope, not the range.
+        compared = {"slope", "n"} & set(row) if row["name"] == "arma11" else set(row) - {"name"}
+        for key in compared:
+            assert row[key] == pytest.approx(audit_row[key], rel=1e-9), (row["name"], key)
+    assert [trend["slope"], *trend["ci"]] == pytest.approx([long_term["slope"], *long_term["ci"]], rel=1e-9)
+    assert {k: trend["mann_kendall"][k] for k in long_term["mann_kendall"]} == long_term["mann_kendall"]

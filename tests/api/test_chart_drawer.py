@@ -8,13 +8,15 @@ import time
 
 import pytest
 
-from app.api.chart_drawing import ChartDrawer
-from app.api.pool import ComputePool
 from app.errors import NotFound
 from app.report import chart_cache
 from app.report.chart_cache import CHART_RENDERER
 from app.report.chart_sets import AUDIT_CHARTS
 from app.report.charts import CHART_NAMES
+from app.service.chart_drawing import ChartDrawer
+from app.service.pool import ComputePool
+
+DEADLINE_SECONDS = 30.0  # generous: a busy machine is slow, not wrong; a broken drawer still fails by then
 
 
 class Shelf:
@@ -35,15 +37,39 @@ class Pen:
         self.drawn: list[tuple[str, str]] = []
         self.started = threading.Event()
         self.release = threading.Event()
+        self.finished = threading.Event()  # a chart has been drawn
 
     def __call__(self, document, charts, names):
         self.started.set()
-        if not self.release.wait(10):
+        if not self.release.wait(DEADLINE_SECONDS):
             raise RuntimeError("never released")
         if document.get("broken"):
             raise ValueError("cannot draw this one")
         self.drawn += [(document["id"], name) for name in names]
+        self.finished.set()
         return {name: f"<svg>{document['id']} {name}</svg>" for name in names}
+
+
+def until(condition, what: str) -> None:
+    """Polls ``condition`` until it holds or the generous deadline passes."""
+    give_up = time.monotonic() + DEADLINE_SECONDS
+    while not condition():
+        assert time.monotonic() < give_up, f"{what} never happened"
+        time.sleep(0.01)
+
+
+def release_once_told_to_stop(drawer: ChartDrawer, record_id: str, pen: Pen) -> threading.Thread:
+    """Lets the pen finish its chart only after the drawer has told ``record_id``'s drawing to stop, so the test
+    sees what happens to a drawing stopped in the middle of a chart, however slow the machine."""
+    job = drawer._pending[record_id][0]
+
+    def release() -> None:
+        until(job.taken_over.is_set, f"telling {record_id}'s drawing to stop")
+        pen.release.set()
+
+    helper = threading.Thread(target=release)
+    helper.start()
+    return helper
 
 
 @pytest.fixture
@@ -97,7 +123,7 @@ def test_every_chart_is_drawn_and_kept_under_the_current_renderer(pen, shelf, dr
 
 def test_the_queue_is_bounded_and_what_does_not_fit_is_left_to_the_first_view(pen, drawer):
     assert drawer.submit("a", AUDIT_CHARTS)
-    assert pen.started.wait(5)
+    assert pen.started.wait(DEADLINE_SECONDS)
     assert drawer.submit("b", AUDIT_CHARTS)
     assert not drawer.submit("c", AUDIT_CHARTS)  # "a" drawing, "b" waiting: the queue of 2 is full
     assert drawer.skipped == 1
@@ -111,11 +137,12 @@ def test_the_queue_is_bounded_and_what_does_not_fit_is_left_to_the_first_view(pe
 
 def test_a_view_takes_over_a_drawing_still_queued(pen, drawer):
     drawer.submit("a", AUDIT_CHARTS)
-    assert pen.started.wait(5)
+    assert pen.started.wait(DEADLINE_SECONDS)
     drawer.submit("b", AUDIT_CHARTS)
-    began = time.monotonic()
-    drawer.settle("b")  # "b" has not started: cancelled, so the view draws it itself at once
-    assert time.monotonic() - began < 1.0
+    settled = threading.Event()
+    threading.Thread(target=lambda: (drawer.settle("b"), settled.set())).start()
+    # "b" has not started: cancelled, so the view goes on at once, while "a" is still held mid-chart.
+    assert settled.wait(DEADLINE_SECONDS) and not pen.release.is_set()
     pen.release.set()
     drawer.wait_until_drawn()
     assert records_drawn(pen) == ["a"]
@@ -123,11 +150,11 @@ def test_a_view_takes_over_a_drawing_still_queued(pen, drawer):
 
 def test_a_view_stops_a_drawing_under_way_at_the_next_chart_and_what_was_drawn_is_kept(pen, shelf, drawer):
     drawer.submit("a", AUDIT_CHARTS)
-    assert pen.started.wait(5)
-    threading.Timer(0.3, pen.release.set).start()
-    began = time.monotonic()
+    assert pen.started.wait(DEADLINE_SECONDS)
+    helper = release_once_told_to_stop(drawer, "a", pen)
     drawer.settle("a")  # returns once the chart being drawn is done
-    assert time.monotonic() - began >= 0.25
+    assert pen.finished.is_set()
+    helper.join()
     assert pen.drawn == [("a", CHART_NAMES[0])]
     assert shelf.load("a", CHART_RENDERER) == {CHART_NAMES[0]: f"<svg>a {CHART_NAMES[0]}</svg>"}
 
@@ -142,12 +169,19 @@ def test_charts_a_view_already_kept_are_not_drawn_again(pen, shelf, drawer):
 
 def test_drawing_waits_while_audits_are_computing_and_resumes_when_the_pool_is_idle(pen, shelf):
     pool = ComputePool(workers=1, queue=1, timeout_seconds=30)
-    drawer = ChartDrawer(shelf, read, queue=4, wait_idle=pool.wait_idle)
+    busy_answers = []
+
+    def wait_idle(seconds: float) -> bool:
+        idle = pool.wait_idle(seconds)
+        busy_answers.append(idle)
+        return idle
+
+    drawer = ChartDrawer(shelf, read, queue=4, wait_idle=wait_idle)
     pen.release.set()
     assert pool._take()  # an audit is running
     try:
         drawer.submit("a", AUDIT_CHARTS)
-        time.sleep(0.6)
+        until(lambda: busy_answers.count(False) >= 2, "asking the busy pool twice")
         assert pen.drawn == []  # nothing drawn while the audit runs
     finally:
         pool._give_back()
@@ -185,9 +219,10 @@ def test_when_switched_off_nothing_is_queued(pen, shelf):
 def test_shutting_down_drops_queued_drawings_stops_the_one_under_way_and_refuses_new_ones(pen, shelf):
     drawer = ChartDrawer(shelf, read, queue=4)
     drawer.submit("a", AUDIT_CHARTS)
-    assert pen.started.wait(5)
+    assert pen.started.wait(DEADLINE_SECONDS)
     drawer.submit("b", AUDIT_CHARTS)
-    threading.Timer(0.2, pen.release.set).start()
+    helper = release_once_told_to_stop(drawer, "a", pen)
     drawer.shutdown()  # "a" stops after the chart it is drawing; "b" never starts
+    helper.join()
     assert pen.drawn == [("a", CHART_NAMES[0])]
     assert not drawer.submit("c", AUDIT_CHARTS)

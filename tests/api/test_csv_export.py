@@ -5,7 +5,7 @@ import io
 
 import pytest
 
-from app.api.csv_export import audit_data_csv, neutralise
+from app.service.csv_export import audit_data_csv, neutralise
 
 
 @pytest.mark.parametrize("text, expected", [

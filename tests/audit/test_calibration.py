@@ -59,7 +59,7 @@ def test_cherry_picked_pauses_rarely_pass_as_trend_changes(n, ppy):
     rates = _rates(n, ppy, seed=n, trend=lambda t: 0.015 * (t - t[0]))
     print(f"\nn={n}: verdict trend_change_supported {rates['supported']:.3f}, nominal test at the claimed date "
           f"{rates['nominal']:.3f}, naive white-noise test {rates['naive']:.3f}; codes {rates['codes']}")
-    assert rates["supported"] <= 0.07  # the issue's bound at alpha = 0.05
+    assert rates["supported"] <= 0.07  # our requirement at alpha = 0.05
     assert rates["naive"] >= 3 * max(rates["supported"], 0.02)  # the spreadsheet check is fooled far more often
 
 
@@ -72,7 +72,7 @@ def _power_one(args):
 
 def test_a_trend_that_really_flattened_is_found():
     # 140 annual points rising 0.15 per decade, flat for the last 30% (42 years); AR(1) noise, phi 0.5,
-    # marginal sd 0.1: the slope change (0.015 per year) is the effect, stated here as the issue asks.
+    # marginal sd 0.1: the slope change (0.015 per year) is the effect, stated as our requirement says.
     n, phi, reps = 140, 0.5, 150
     t = 1885.0 + np.arange(n) + 0.5
     change_time = float(t[int(0.7 * n)]) - 0.5

@@ -44,7 +44,7 @@ def run(driver, response, **options):
 def test_kuznets_long_run_proportionality_in_statsmodels_macrodata():
     # Kuznets (1946, "National Product since 1869"): over the long run US consumption grows in proportion to income
     # (a constant average propensity to consume, about 0.9), while over the business cycle it moves less than
-    # income (checked through the search tool's excerpts of textbook accounts). Data: statsmodels.datasets.macrodata,
+    # income (as textbook accounts of Kuznets summarise it). Data: statsmodels.datasets.macrodata,
     # US quarterly 1959Q1-2009Q3, real personal consumption and real disposable income. Proportionality means an
     # elasticity of 1: log consumption rises by ln 2 per doubling of income.
     data = sm.datasets.macrodata.load_pandas().data

@@ -20,7 +20,7 @@ import sqlalchemy as sa
 
 from api.conftest import audit_body, invented_series
 from api.servers import Server
-from app.audit.verdict import VERDICT_CODES
+from app.vocabulary import VERDICT_CODES
 from app.store.engine import make_engine, sqlite_path
 
 pytestmark = pytest.mark.slow  # four server starts and three kills per database

@@ -16,9 +16,9 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from app.api.service import audit_options, claim_time
+from app.service.audits import audit_options, claim_time
 from app.audit import AuditOptions, Claim, audit_document, run_audit
-from app.audit.verdict import VERDICT_CODES
+from app.vocabulary import VERDICT_CODES
 from app.correlation import CorrelationOptions
 from app.correlation.run import run_correlation
 from app.correlation.serialize import correlation_document

@@ -9,7 +9,7 @@ import re
 import pytest
 from fastapi.testclient import TestClient
 
-from app.api.deps import get_runtime
+from app.dependencies import get_runtime
 from app.main import create_app
 from app.security import PAGE_POLICY, RESOURCE_POLICY
 

@@ -15,8 +15,8 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from app.api.csv_export import FORMULA_STARTS, PLAIN_NUMBER, audit_data_csv, correlation_data_csv
-from app.api.payloads import series_payload
+from app.service.csv_export import FORMULA_STARTS, PLAIN_NUMBER, audit_data_csv, correlation_data_csv
+from app.service.payloads import series_payload
 from app.errors import InputError
 from app.ingest import IngestOptions, read_csv_text
 

@@ -14,7 +14,7 @@ import pytest
 import sqlalchemy as sa
 from fastapi.testclient import TestClient
 
-from app.api.deps import get_runtime
+from app.dependencies import get_runtime
 from app.main import create_app
 from app.settings import PROJECT_ROOT
 from app.store.engine import sqlite_path

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import math
 
+from app.ingest import IngestOptions, Series, read_csv_text
+
 
 def wiggle(i: int) -> float:
     """A trend with a deterministic wiggle, so that no two neighbouring values are equal."""
@@ -26,3 +28,8 @@ def csv_text(header: str, rows, sep: str = ",") -> str:
 
 def json_series(n: int = 12, start: int = 1990) -> dict:
     return {"time": [start + i for i in range(n)], "value": [wiggle(i) for i in range(n)]}
+
+
+def series_from_csv(text: str | bytes, options: IngestOptions = IngestOptions()) -> Series:
+    """The Series of a CSV text, as the audit reads it (the table around it left out)."""
+    return read_csv_text(text, options).series

@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from app.ingest import IngestOptions, read_csv_text, series_from_csv
-from ingest_samples import annual_lines, csv_text, monthly_pairs, wiggle
+from app.ingest import IngestOptions, read_csv_text
+from ingest_samples import annual_lines, csv_text, monthly_pairs, series_from_csv, wiggle
 
 EXPECTED_ANNUAL = np.array([wiggle(i) for i in range(20)])
 

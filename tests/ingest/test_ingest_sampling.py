@@ -5,9 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from app.ingest import series_from_csv
 from app.ingest.sampling import detect_sampling, gap_count, gap_times, period_label
-from ingest_samples import csv_text, wiggle
+from ingest_samples import csv_text, series_from_csv, wiggle
 
 
 @pytest.mark.parametrize("times, expected", [

@@ -9,8 +9,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from app.ingest import IngestOptions, read_csv_text, series_from_csv
-from ingest_samples import csv_text
+from app.ingest import IngestOptions, read_csv_text
+from ingest_samples import csv_text, series_from_csv
 
 YEARS = 9
 START = 2000

@@ -62,6 +62,6 @@ def correlation_document_text(driver_label: str = "Greenhouse index", driver_uni
 
 
 def stored_body(document_json: str, audit_id: str = "AbCdEfGhIjKlMnOpQrStUvWx", title: str = "Has it stopped?"):
-    """The API's body for one audit, as ``app.api.service.audit_body`` builds it."""
+    """The API's body for one audit, as ``app.service.records.record_body`` builds it."""
     return {"id": audit_id, "kind": "audit", "title": title, "created_at": CREATED.isoformat().replace("+00:00", "Z"),
             **json.loads(document_json)}

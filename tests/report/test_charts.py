@@ -14,7 +14,7 @@ import pytest
 from app.report import chart_cache
 from app.report.chart_cache import chart_file, chart_views
 from app.report.charts import CHART_NAMES, CHARTS
-from app.report.figures import inline_svg, standalone_svg
+from app.report.figures import as_standalone, inline_svg, labelled_svg
 from app.report.numbers import Rate
 
 SVG_NS = "{http://www.w3.org/2000/svg}"
@@ -110,6 +110,9 @@ def test_user_text_reaches_the_svg_escaped_and_never_as_mathtext(document):
     hostile = '<script>alert(1)</script> "><img src=x onerror=alert(1)> $\\alpha$ &amp; ]]> -- -->'
     document["inputs"]["label"] = hostile
     document["inputs"]["units"] = "$x^2$"
+    def standalone_svg(fig, name, title, description):
+        return as_standalone(labelled_svg(fig, name, title, description))
+
     for make in (inline_svg, standalone_svg):
         svg = make(CHARTS["series"].build(document), "series", hostile, hostile)
         assert "<script" not in svg and "<img" not in svg

@@ -134,7 +134,7 @@ def test_okun_law_in_statsmodels_macrodata():
     # growth. Okun (1962, "Potential GNP: its measurement and significance"): about 3% of output per point of
     # unemployment, i.e. about -1/3 point per 1% of growth; Knotek (2007, Fed. Reserve Bank Kansas City Econ. Rev.
     # Q4, "How useful is Okun's law?"): about 0.3 point per point of quarterly growth, in the same quarter
-    # (both checked through the search tool's excerpts). Data: statsmodels.datasets.macrodata, 1959Q1-2009Q3.
+    # (both checked against published excerpts, not the whole papers). Data: statsmodels.datasets.macrodata, 1959Q1-2009Q3.
     data = sm.datasets.macrodata.load_pandas().data
     t = (data.year.values + (data.quarter.values - 0.5) / 4)[1:]
     du, growth = np.diff(data.unemp.values), 100 * np.diff(np.log(data.realgdp.values))

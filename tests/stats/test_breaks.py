@@ -76,8 +76,8 @@ def test_directional_p_values_follow_the_sign_of_the_slope_change():
 
 # Andrews (1993, Econometrica 61, Table 1), pi0 = 0.15, in F form (sup-Wald / q), as transcribed by
 # Stock & Watson (2003, Introduction to Econometrics) and in gretl's QLR table (lib/src: QLR_critvals):
-# q = 1: 7.12, 8.68, 12.16; q = 2: 5.00, 5.86, 7.78 (Wald form 10.00, 11.72, 15.56). The brief
-# recalled 7.17 for the q = 1 10% value ("from memory"); the two transcriptions agree on 7.12.
+# q = 1: 7.12, 8.68, 12.16; q = 2: 5.00, 5.86, 7.78 (Wald form 10.00, 11.72, 15.56). A value of 7.17
+# for q = 1 at 10% was once recalled "from memory"; the two transcriptions agree on 7.12.
 ANDREWS_F_FORM = {1: (7.12, 8.68, 12.16), 2: (5.00, 5.86, 7.78)}
 
 

@@ -70,10 +70,11 @@ def test_discontinuous_optimum_equals_ruptures_dynp(seed, cost, model):
 
 def test_break_date_critical_values():
     # Hansen (2000, Econometrica 68, 575, Table 1): 5.94, 7.35, 10.59 at 90, 95, 99% (as transcribed
-    # in public code found with the search tool; not checked against the paper itself).
+    # in public code; not checked against the paper itself).
     np.testing.assert_allclose([DiscontinuousSearch.critical_value(c, 50.0) for c in (0.90, 0.95, 0.99)],
                                [5.94, 7.35, 10.59], atol=0.005)
-    # Joined pieces: F(1, dof), tending to the chi-square(1) quantile 3.84 for many degrees of freedom.
+    # Joined pieces: F(1, dof), tending to the chi-square(1) 95% quantile 3.84 for many degrees of freedom
+    # (common practice, no source).
     assert ContinuousSearch.critical_value(0.95, 1e6) == pytest.approx(3.8415, abs=1e-3)
 
 

@@ -71,7 +71,8 @@ def _fresh_ar1_records(count: int, n: int, phi: float, sigma: float, seed: int) 
 @pytest.mark.parametrize("direction", ["low", "high"])
 def test_probability_is_uniform_when_the_claim_is_the_extreme_window_of_a_null_record(direction):
     # A cherry-picker takes the flattest (or steepest) window of a record that truly follows the null.
-    # A calibrated look-elsewhere probability is then Uniform(0, 1): p < 0.05 in 5% of records.
+    # A calibrated look-elsewhere probability is then Uniform(0, 1): p < 0.05 in 5% of records (a valid
+    # p-value is uniform under its null: common practice, no source).
     t = 1990.0 + (np.arange(240) + 0.5) / 12.0
     null_slope, phi, sigma, window_points, replicates = 0.02, 0.5, 0.1, 60, 400
     model = NoiseModel(kind="ar1", phi=phi, sigma=sigma)

@@ -151,7 +151,7 @@ def test_rows_and_single_series_agree():
 
 @pytest.mark.parametrize("n, low, high", [(360, 0.93, 0.97), (60, 0.91, 0.98)])
 def test_default_interval_covers_the_true_slope_under_ar1_noise(n, low, high):
-    # Seeded simulation: 2000 series, known slope, AR(1) noise with phi = 0.6 (brief: n = 360 in 93-97%, n = 60 >= 91%).
+    # Seeded simulation: 2000 series, known slope, AR(1) noise with phi = 0.6 (our requirement: n = 360 in 93-97%, n = 60 >= 91%).
     t, rows = simulated_rows(n, 0.6, 2000, seed=1000 + n)
     table = coverage_table(t, rows, MONTHLY_SLOPE)
     print(f"\ncoverage of 95% intervals, AR(1) phi = 0.6, n = {n}: "

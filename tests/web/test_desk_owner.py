@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import re
 
-from app.api.limits import body_too_large
+from app.service.limits import body_too_large
 from app.web.owners import CREATED_COOKIE
 from app.web.too_large import too_large_page, wants_html
 from web.answers import report_path

@@ -15,14 +15,13 @@ from dataclasses import dataclass
 from typing import Any
 
 from app import __version__
-from app.api.limits import check_string_lengths
-from app.api.payloads import series_payload
-from app.api.schemas import CorrelationRequest
-from app.api.columns import extra_column, unusable_column
-from app.api.service import check_work, record_body, string_times, with_defaults
 from app.correlation import CorrelationOptions, check_correlation_options, correlation_document, run_correlation
 from app.errors import Location, SeriesFormatError
 from app.ingest import IngestOptions, Series, read_csv_text, series_from_json
+from app.service.audits import string_times, with_defaults
+from app.service.columns import extra_column, unusable_column
+from app.service.limits import check_string_lengths, check_work
+from app.service.payloads import series_payload
 from app.settings import Settings
 from app.store import CORRELATION, AuditRecord, AuditRepository, NewAudit
 
@@ -62,7 +61,8 @@ def prepare_correlation_job(*, title: str, driver: Series, response: Series, opt
                           max_simulations=settings.max_simulations, input_document=document)
 
 
-def correlation_job_from_json(request: CorrelationRequest, settings: Settings) -> CorrelationJob:
+def correlation_job_from_json(request: Any, settings: Settings) -> CorrelationJob:
+    """``request``: the JSON body, validated against the API's ``CorrelationRequest`` schema."""
     texts = {"title": request.title, "source.name": request.source.name, "source.url": request.source.url,
              "source.notes": request.source.notes}
     for role in ("driver", "response"):
@@ -132,13 +132,3 @@ def store_correlation(audits: AuditRepository, job: CorrelationJob,
         title=job.title, input_document=input_document, result_document=document,
         input_sha256=pair_sha256(job.driver, job.response), seed=seed,
         software_version=document.get("software_version") or __version__, summary=summary, kind=CORRELATION))
-
-
-def correlation_links(correlation_id: str, settings: Settings) -> dict[str, str]:
-    base = settings.public_base_url.rstrip("/")
-    return {"url": f"{base}/api/v1/correlations/{correlation_id}", "report_url": f"{base}/correlations/{correlation_id}",
-            "data_url": f"{base}/api/v1/correlations/{correlation_id}/data.csv"}
-
-
-def correlation_body(record: AuditRecord, settings: Settings, owner_token: str | None = None) -> dict[str, Any]:
-    return record_body(record, correlation_links(record.id, settings), owner_token)

@@ -13,8 +13,6 @@ import io
 import re
 from typing import Any
 
-from fastapi.responses import Response
-
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 PLAIN_NUMBER = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?")
 COLUMNS = ("time", "time_label", "value", "long_term_trend", "residual", "in_reference", "in_window")
@@ -25,11 +23,6 @@ def neutralise(text: str) -> str:
     if text.startswith(FORMULA_STARTS) and not PLAIN_NUMBER.fullmatch(text):
         return "'" + text
     return text
-
-
-def csv_download(text: str, record_id: str) -> Response:
-    return Response(text, media_type="text/csv; charset=utf-8",
-                    headers={"Content-Disposition": f'attachment; filename="trendaudit-{record_id}.csv"'})
 
 
 def _number(value: float | None) -> str:

@@ -12,10 +12,10 @@ import dataclasses
 from dataclasses import dataclass
 from typing import Any, Sequence
 
-from app.api.columns import extra_column, unusable_column
-from app.api.payloads import series_from_payload, series_payload
 from app.errors import ClaimError, LimitExceeded, Location
 from app.ingest import IngestOptions, ParsedTable, Series, series_from_arrays
+from app.service.columns import extra_column, unusable_column
+from app.service.payloads import series_payload
 from app.stats.adjust import MAX_COVARIATES, Covariate, default_max_lag
 
 # Lagged copies one covariate may need (candidate lags x response points). The lag search holds them all
@@ -106,7 +106,3 @@ def covariate_payload(cov: CovariateSeries) -> dict[str, Any]:
     return {"name": cov.name, "max_lag": cov.max_lag, "sha256": cov.series.sha256(),
             "series": series_payload(cov.series)}
 
-
-def covariate_from_payload(payload: dict[str, Any]) -> CovariateSeries:
-    return CovariateSeries(name=payload["name"], series=series_from_payload(payload["series"]),
-                           max_lag=payload.get("max_lag"))

@@ -1,4 +1,4 @@
-"""From a request to a stored audit: the one path the JSON body, the multipart upload and the CLI share.
+"""From a request to a stored audit: the one path the JSON body, the multipart upload, the desk and the CLI share.
 
     request ─> AuditJob (Series + Claim + AuditOptions + what to store) ─> run_audit ─> audit_document ─> store
 
@@ -12,23 +12,22 @@ import dataclasses
 import hashlib
 import re
 from dataclasses import dataclass
-from typing import Any, Callable, Sequence
+from typing import Any, Sequence
 
 from app import __version__
-from app.api.covariates import (FORM_COVARIATE_FIELDS, CovariateSeries, check_lag_cells, covariate_payload,
-                                covariates_from_json, covariates_from_table)
-from app.api.limits import check_string_lengths
-from app.api.payloads import series_from_payload, series_payload  # noqa: F401  (the desk and tests use them here)
-from app.api.schemas import AuditRequest
 from app.audit import AuditOptions, Claim, audit_document, run_audit
 from app.audit.claim import check_claim, check_options
-from app.errors import ClaimError, InputError, LimitExceeded, Location
+from app.errors import ClaimError, InputError, Location
 from app.ingest import IngestOptions, Series, check_window_in_series, read_csv_text, series_from_json
 from app.ingest.cells import CellError
 from app.ingest.numbers import normalise
 from app.ingest.times import parse_time
+from app.service.covariates import (FORM_COVARIATE_FIELDS, CovariateSeries, check_lag_cells, covariate_payload,
+                                    covariates_from_json, covariates_from_table)
+from app.service.limits import check_string_lengths, check_work
+from app.service.payloads import series_payload
 from app.settings import Settings
-from app.store import AUDIT, AuditRecord, AuditRepository, NewAudit, Page
+from app.store import AUDIT, AuditRecord, AuditRepository, NewAudit
 
 
 @dataclass(frozen=True)
@@ -77,16 +76,6 @@ def make_claim(start: float | int | str, end: float | int | str, kind: str, pref
     return Claim(start=claim_time(start, f"{prefix}start"), end=claim_time(end, f"{prefix}end"), kind=kind)
 
 
-def check_work(n_points: int, simulations: int, limit: int, field: str = "options.simulations") -> None:
-    """Points times simulations bounds an audit's time and memory; refuse what would run past the limit."""
-    if n_points * simulations > limit:
-        most = max(100, limit // max(n_points, 1))
-        raise LimitExceeded(f"{simulations} simulations of a {n_points}-point series is more work than this "
-                            f"service does in one request ({limit:,} simulated points)",
-                            location=Location(field=field),
-                            fix=f"Ask for at most {most} simulations for a series this long, or send fewer points")
-
-
 def default_title(series: Series, claim: Claim) -> str:
     return f"{series.label or 'Series'}: {claim.kind} claimed {claim.start:g} to {claim.end:g}"
 
@@ -118,7 +107,8 @@ def string_times(times: Sequence[Any], field: str) -> dict[str, str]:
     return {f"{field}[{i}]": t for i, t in enumerate(times) if isinstance(t, str)}
 
 
-def job_from_json(request: AuditRequest, settings: Settings) -> AuditJob:
+def job_from_json(request: Any, settings: Settings) -> AuditJob:
+    """``request``: the JSON body, validated against the API's ``AuditRequest`` schema."""
     covariate_texts = {}
     for i, cov in enumerate(request.covariates):
         covariate_texts.update({f"covariates[{i}].name": cov.name, **string_times(cov.time, f"covariates[{i}].time")})
@@ -192,38 +182,6 @@ def store_audit(audits: AuditRepository, job: AuditJob, document: dict[str, Any]
         title=job.title, input_document=input_document, result_document=document,
         input_sha256=(document.get("inputs") or {}).get("sha256") or job.series.sha256(), seed=seed,
         software_version=document.get("software_version") or __version__, summary=summary, kind=AUDIT))
-
-
-def audit_links(audit_id: str, settings: Settings) -> dict[str, str]:
-    base = settings.public_base_url.rstrip("/")
-    return {"url": f"{base}/api/v1/audits/{audit_id}", "report_url": f"{base}/audits/{audit_id}",
-            "data_url": f"{base}/api/v1/audits/{audit_id}/data.csv"}
-
-
-def utc_text(moment) -> str:
-    return moment.isoformat().replace("+00:00", "Z")
-
-
-def record_body(record: AuditRecord, links: dict[str, str], owner_token: str | None = None) -> dict[str, Any]:
-    """The answer for one stored record: who and where first, then the result document as stored."""
-    head: dict[str, Any] = {"id": record.id, "kind": record.kind, "title": record.title,
-                            "created_at": utc_text(record.created_at), **links}
-    if owner_token is not None:
-        head["owner_token"] = owner_token
-    return {**head, **{k: v for k, v in record.result_document.items() if k not in head}}
-
-
-def list_page(page: Page, links: Callable[[str, Settings], dict[str, str]], settings: Settings) -> dict[str, Any]:
-    """A page of stored records as the list endpoints answer it."""
-    items = [{"id": item.id, "kind": item.kind, "title": item.title, "created_at": utc_text(item.created_at),
-              "summary": item.summary,
-              **{k: v for k, v in links(item.id, settings).items() if k in ("url", "report_url")}}
-             for item in page.items]
-    return {"items": items, "next_cursor": page.next_cursor}
-
-
-def audit_body(record: AuditRecord, settings: Settings, owner_token: str | None = None) -> dict[str, Any]:
-    return record_body(record, audit_links(record.id, settings), owner_token)
 
 
 def rename_fields(error: InputError, names: dict[str, str],

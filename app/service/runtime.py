@@ -10,13 +10,14 @@ from __future__ import annotations
 import logging
 import threading
 from dataclasses import dataclass
+from typing import Any
 
 from sqlalchemy import Engine
 
-from app.api.chart_drawing import ChartDrawer
-from app.api.pool import ComputePool
-from app.report.chart_cache import ChartShelf
+from app.report.chart_cache import ChartShelf, prepared_charts
 from app.report.chart_sets import ChartSet
+from app.service.chart_drawing import ChartDrawer
+from app.service.pool import ComputePool
 from app.settings import Settings
 from app.store import AuditRepository, ChartRepository, make_engine, migrate
 
@@ -35,6 +36,10 @@ class Runtime:
     def draw_charts_ahead(self, record_id: str, charts: ChartSet) -> None:
         """After a record is stored: its charts are drawn in the background, so its report opens at once."""
         self.drawer.submit(record_id, charts)
+
+    def draw_charts_now(self, record_id: str, document: dict[str, Any], charts: ChartSet) -> None:
+        """Draws and keeps a new record's charts while someone waits for its page anyway (the desk)."""
+        prepared_charts(record_id, document, charts, self.charts)
 
     def chart_shelf(self, record_id: str) -> ChartShelf:
         """Where a view of ``record_id`` finds its kept charts, once any drawing of them in flight has ended."""

@@ -1,4 +1,4 @@
-"""Limits enforced where input enters: the body size (before anything parses it) and string lengths."""
+"""The body-size limit, enforced before anything parses the body (the other limits: ``app.service.limits``)."""
 
 from __future__ import annotations
 
@@ -6,16 +6,9 @@ from collections.abc import Iterable
 from typing import Any
 
 from app.api.problems import problem_for_error, problem_response
-from app.errors import InputError, LimitExceeded, Location
+from app.service.limits import body_too_large
 
 BODY_METHODS = frozenset({"POST", "PUT", "PATCH"})
-
-
-def body_too_large(limit: int) -> LimitExceeded:
-    return LimitExceeded(f"the request body is larger than this service's limit of {limit:,} bytes",
-                         body_too_large=True, location=Location(field="body"),
-                         fix="Send a smaller file: cut the series to the years that matter, or use monthly "
-                             "or annual values instead of daily ones")
 
 
 class _TooLarge(Exception):
@@ -97,15 +90,3 @@ def _content_length(headers: Iterable[tuple[bytes, bytes]]) -> int | None:
             except ValueError:
                 return None
     return None
-
-
-def check_string_lengths(fields: dict[str, str | None], limit: int) -> None:
-    """422 naming the first field whose text is longer than the limit, or holds a NUL character (which no
-    title or label needs, and which PostgreSQL cannot store in a text column)."""
-    for name, text in fields.items():
-        if text is not None and len(text) > limit:
-            raise LimitExceeded(f"the text is {len(text):,} characters long; the limit is {limit:,}",
-                                location=Location(field=name), fix=f"Shorten '{name}' to at most {limit:,} characters")
-        if text is not None and "\x00" in text:
-            raise InputError("the text holds a NUL character (code 0)", location=Location(field=name),
-                             fix=f"Remove the NUL character from '{name}'")

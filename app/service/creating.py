@@ -1,0 +1,36 @@
+"""Creating a stored record, the same for every kind and every front end: the prepared job is computed in the
+compute pool, its document (written once, by the serialiser) is stored, and its charts are drawn."""
+
+from __future__ import annotations
+
+import asyncio
+from typing import Any
+
+from app.service.audits import AuditJob, compute_document, store_audit
+from app.service.correlations import CorrelationJob, compute_correlation_document, store_correlation
+from app.service.records import AUDITS, RecordKind
+from app.service.runtime import Runtime
+from app.store import AuditRecord
+
+
+def _steps(kind: RecordKind):
+    """(compute, store) for a kind of record, looked up when called."""
+    if kind is AUDITS:
+        return compute_document, store_audit
+    return compute_correlation_document, store_correlation
+
+
+async def create_record(runtime: Runtime, kind: RecordKind, job: AuditJob | CorrelationJob, *,
+                        draw_now: bool = False) -> tuple[AuditRecord, str, dict[str, Any]]:
+    """Computes ``job`` in the pool and stores it: (the record, its owner token, the result document).
+
+    Its charts are drawn in the background once the pool is idle, or with ``draw_now`` before this returns
+    (the desk, whose person waits for the created page anyway)."""
+    compute, store = _steps(kind)
+    document = await runtime.pool.run(compute, job)
+    record, owner_token = await asyncio.to_thread(store, runtime.audits, job, document)
+    if draw_now:
+        await asyncio.to_thread(runtime.draw_charts_now, record.id, document, kind.charts)
+    else:
+        runtime.draw_charts_ahead(record.id, kind.charts)
+    return record, owner_token, document

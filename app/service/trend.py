@@ -1,0 +1,54 @@
+"""One series' trend with its uncertainty under every noise model, side by side; with covariates, also the
+trend once known factors are taken out (the fit alone, no audit). Written by the shared serialiser."""
+
+from __future__ import annotations
+
+from dataclasses import replace
+from typing import Any
+
+from app.audit.serialize import trend_document
+from app.errors import ClaimError, Location
+from app.ingest import IngestOptions, series_from_json
+from app.ingest.series import Series
+from app.ingest.validate import check_enough_values, check_window_in_series
+from app.service.covariates import check_lag_cells, covariates_from_json
+from app.settings import Settings
+from app.stats.adjust import fit_covariates
+from app.stats.noise import NOISE_KINDS
+from app.stats.trend import summarise_trend
+
+ADJUSTMENT_FALLBACK_NOISE = "ar1"  # the covariate fit's ranges need a noise kind, not a trend method
+
+
+def trend_window(series: Series, start: float | None, end: float | None) -> Series:
+    if start is None and end is None:
+        return series
+    start = series.start if start is None else start
+    end = series.end if end is None else end
+    try:
+        check_window_in_series(series, start, end, field_prefix="window")
+    except ClaimError as error:
+        # The trend body names the window's edges at the top level: "start", "end".
+        error.location = replace(error.location, field=(error.location.field or "").removeprefix("window."))
+        raise
+    window = series.window(start, end)
+    check_enough_values(window.n, 0, Location(field="start"), after=f" between {start:g} and {end:g}")
+    return window
+
+
+def compute_trend(body: Any, settings: Settings) -> dict[str, Any]:
+    """``body``: the JSON body, validated against the API's ``TrendRequest`` schema. CPU-bound: runs in the pool."""
+    reading = IngestOptions(max_points=settings.max_points)
+    series = series_from_json(body.series.model_dump(exclude_none=True), reading, field="series")
+    covariates = covariates_from_json([c.model_dump() for c in body.covariates], reading)
+    window = trend_window(series, body.start, body.end)
+    fit, noise = None, None
+    if covariates:
+        check_lag_cells(window, covariates, [f"covariates[{i}].max_lag" for i in range(len(covariates))])
+        noise = body.noise if body.noise in NOISE_KINDS else ADJUSTMENT_FALLBACK_NOISE
+        fit = fit_covariates(window.time, window.value, [c.covariate for c in covariates], window.points_per_year,
+                             noise_kind=noise, confidence=body.confidence, lag_rule=body.lag_rule)
+    summary = summarise_trend(window.time, window.value, method=body.noise, confidence=body.confidence,
+                              points_per_year=window.points_per_year)
+    return trend_document(summary, start=window.start, end=window.end, confidence=body.confidence,
+                          adjustment=fit, adjustment_noise=noise)
