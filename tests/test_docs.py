@@ -48,8 +48,9 @@ def test_the_verdict_codes_in_the_readme_are_the_codes_in_the_code():
     assert re.findall(r"^\| `(\w+)` \|", table, flags=re.M) == list(VERDICT_CODES_IN_PRECEDENCE)
 
 
-VERDICT_CODES_IN_PRECEDENCE = ("no_long_term_trend", "claim_contradicted", "trend_change_supported",
-                               "too_short_to_tell", "consistent_with_trend")
+VERDICT_CODES_IN_PRECEDENCE = ("no_long_term_trend", "level_shift", "claim_contradicted", "trend_change_supported",
+                               "depends_on_noise_model", "change_differs_from_claim", "too_short_to_tell",
+                               "consistent_with_trend")
 
 
 def test_precedence_list_covers_every_code():

@@ -14,7 +14,9 @@ from app.ingest.validate import check_enough_values, check_window_in_series
 from app.service.covariates import check_lag_cells, covariates_from_json
 from app.settings import Settings
 from app.stats.adjust import fit_covariates
-from app.stats.noise import NOISE_KINDS
+from app.stats.noise import NOISE_KINDS, NoiseModel
+from app.stats.noise_fit import select_noise_model
+from app.stats.ols import fit_trend
 from app.stats.trend import summarise_trend
 
 ADJUSTMENT_FALLBACK_NOISE = "ar1"  # the covariate fit's ranges need a noise kind, not a trend method
@@ -36,6 +38,13 @@ def trend_window(series: Series, start: float | None, end: float | None) -> Seri
     return window
 
 
+def _fitted_noise(window: Series, method: str) -> NoiseModel:
+    """The noise the audit would use on a record with no change of trend: every kind fitted by restricted
+    likelihood to the line's residuals; the method's own kind, or AR(1) behind the GLS and HAC methods."""
+    residuals = fit_trend(window.time, window.value).residuals
+    return select_noise_model(residuals).model_of(method if method in NOISE_KINDS else "ar1")
+
+
 def compute_trend(body: Any, settings: Settings) -> dict[str, Any]:
     """``body``: the JSON body, validated against the API's ``TrendRequest`` schema. CPU-bound: runs in the pool."""
     reading = IngestOptions(max_points=settings.max_points)
@@ -49,6 +58,6 @@ def compute_trend(body: Any, settings: Settings) -> dict[str, Any]:
         fit = fit_covariates(window.time, window.value, [c.covariate for c in covariates], window.points_per_year,
                              noise_kind=noise, confidence=body.confidence, lag_rule=body.lag_rule)
     summary = summarise_trend(window.time, window.value, method=body.noise, confidence=body.confidence,
-                              points_per_year=window.points_per_year)
+                              noise=_fitted_noise(window, body.noise), points_per_year=window.points_per_year)
     return trend_document(summary, start=window.start, end=window.end, confidence=body.confidence,
                           adjustment=fit, adjustment_noise=noise)
