@@ -21,7 +21,7 @@ KIND_CUES = {
         rf"global|more|overall|detectable){_S})?(?:(?:global|surface|further|net){_S})?"
         r"(?:warming|rise|increase|growth|change|trend|gain|decline|loss|melting|cooling)\b",
         rf"\bstopped(?:{_S}{_MOVING})?\b", rf"\bno{_S}longer{_S}{_MOVING}\b",
-        rf"\b(?:halted|stalled|stalling|paused|pause|hiatus|plateau(?:ed|ing|s)?|standstill|stagnat(?:ed|ing|ion)|"
+        rf"\b(?:stop|stopping|halted|stalled|stalling|paused|pause|hiatus|plateau(?:ed|ing|s)?|standstill|stagnat(?:ed|ing|ion)|"
         rf"flat(?:lined|-lined|tened{_S}out)?|levell?(?:ed|ing){_S}off|unchanged|(?:gone|going){_S}nowhere|"
         rf"stuck)\b",
         rf"\b(?:is|are|was|were|isn['’]t|aren['’]t){_NOT}?{_S}(?:really{_S}|actually{_S})?{_MOVING}{_S}(?:any{_S}more|anymore)\b",
@@ -31,15 +31,19 @@ KIND_CUES = {
     ),
     "slowdown": (
         rf"\bslow(?:ed|ing|s|-?down)?(?:{_S}down)?\b",
-        rf"\b(?:more|much{_S}more|far{_S}more|less){_S}(?:slowly|gradually|gently)\b",
+        rf"\b(?:(?:has|have|had|is|are|was|were){_S}(?:been{_S})?)?(?:(?:{_RISE}|{_FALL}|{_MOVING}){_S})?"
+        rf"(?:more|much{_S}more|far{_S}more|less){_S}(?:slowly|gradually|gently)\b",
         r"\bslower\b", r"\bdecelerat(?:ed|ing|es|ion|e)\b",
         rf"\blost{_S}(?:momentum|steam|pace)\b",
         rf"\b(?:rate|pace|rise|increase|warming|growth|decline|loss){_S}(?:has{_S}|have{_S})?"
-        rf"(?:eased|halved|moderated|dropped{_S}off|tapered{_S}off)\b",
+        rf"(?:eased|halved|moderated|dropped(?:{_S}off)?|fallen|declined|tapered{_S}off)\b",
         r"\btapered\b",
     ),
     "reversal": (
-        r"\b(?:cooling|cooled|cooler|colder)\b",
+        r"\b(?:cooling|cooled|cooler|colder|advancing|advanced)\b",
+        rf"\b(?:has|have|had){_S}(?:been{_S})?(?:dropped|fallen|declined|decreased|gone{_S}down)\b",
+        rf"\b(?:fell|dropped|declined|decreased|tumbled|plunged|plummeted)(?:{_S}(?:sharply|steadily|steeply|"
+        rf"slightly))?{_S}(?:from|between|since|after)\b",
         rf"\b(?:falling|fallen|fell|dropping|dropped|declining|declined|decreasing|decreased|going{_S}down|"
         rf"gone{_S}down|trending{_S}down(?:ward)?|shrinking){_S}(?:steadily{_S})?(?:since|ever{_S}since)\b",
         r"\b(?:recover(?:ed|ing|y|s)?|rebound(?:ed|ing|s)?|revers(?:ed|al|ing|e))\b",
@@ -58,11 +62,12 @@ KIND_CUES = {
         rf"\b(?:picked|picking|picks){_S}up(?:{_S}(?:pace|speed|steam))?\b",
         rf"\b(?:ramped|ramping){_S}up\b",
         rf"\brecord{_S}(?:pace|speed|rate)\b",
+        r"\b(?:rate|pace|speed)\b[^.;!?]{0,40}\b(?:doubled|tripled|trebled|quadrupled)\b",
     ),
 }
 
 NEGATION_BEFORE = (r"\b(?:not|no|never|nor|false|untrue|myth|wrong|denied|deny|denies|debunk(?:ed|s)?|"
-                   rf"refuted?|nonsense|contrary{_S}to|rather{_S}than|instead{_S}of|far{_S}from)\b|n['’]t\b")
+                   rf"refuted?|nonsense|contrary{_S}to|rather{_S}than|instead{_S}of|far{_S}from|yet{_S}to|failed{_S}to)\b|n['’]t\b")
 NEGATION_AFTER = (rf"\b(?:is|are|was|were|has{_S}been|remains?)(?:{_S}(?:simply|just|plainly|demonstrably))?{_S}"
                   rf"(?:false|wrong|untrue|not{_S}true|nonsense|incorrect|bogus|debunked|a{_S}myth|an{_S}illusion|"
                   rf"an{_S}artefact|an{_S}artifact|a{_S}fiction|a{_S}lie)\b"
@@ -70,7 +75,7 @@ NEGATION_AFTER = (rf"\b(?:is|are|was|were|has{_S}been|remains?)(?:{_S}(?:simply|
                   rf"|\b(?:does{_S}not|doesn['’]t){_S}(?:exist|hold{_S}up)\b")
 NEGATION_EXCEPTIONS = (rf"\b(?:no{_S}(?:doubt|question|matter|wonder)|not{_S}only|no{_S}sooner|"
                        rf"never{_S}(?:before|been{_S}faster))\b")
-CLAUSE_BREAK = r"[.;!?](?!\d)|\b(?:but|however|whereas|while|although|though|yet)\b"
+CLAUSE_BREAK = rf"[.;!?](?!\d)|\b(?:but|however|whereas|while|although|though|yet(?!{_S}to\b))\b"
 
 _MONTHS = {"january": 1, "february": 2, "march": 3, "april": 4, "may": 5, "june": 6, "july": 7, "august": 8,
            "september": 9, "october": 10, "november": 11, "december": 12, "jan": 1, "feb": 2, "mar": 3, "apr": 4,
@@ -91,7 +96,7 @@ _TEENS = "ten|eleven|twelve|thirteen|fourteen|fifteen|sixteen|seventeen|eighteen
 _NUMBER = (rf"(?:\d{{1,3}}(?:\.\d{{1,2}})?|(?:{_TENS})(?:[-\s](?:{_UNITS}))?|{_TEENS}|{_UNITS}|"
            rf"half{_S}an?|half|a{_S}quarter(?:{_S}of{_S}a)?|a{_S}couple{_S}of|a{_S}dozen|an?)")
 _UNIT = r"(?:years?|yrs?|decades?|century|centuries|months?)"
-_YEAR = r"(?<![\w.-])(?:1[5-9]|2[01])\d\d(?![\d'’]|\.\d|s\b|[-/](?:\d{1,2}\b|[qQ]))"
+_YEAR = r"(?<![\w.])(?:1[5-9]|2[01])\d\d(?![\d'’]|\.\d|s\b|[-/](?:\d{1,2}\b|[qQ]))"
 _MONTH_NAME = r"(?:january|february|march|april|may|june|july|august|september|october|november|december|" \
               r"jan|feb|mar|apr|jun|jul|aug|sept|sep|oct|nov|dec)\.?"
 _PART = r"early|mid|late"
@@ -127,12 +132,17 @@ WINDOW_PATTERNS = (
     WindowPattern("range", rf"{_point('s_')}{_TO_BARE}(?:{_point('e_')}|{_NOW})", rank=1),
     WindowPattern("since", rf"\b(?:since|after|from|starting{_S}in|starting{_S}from|beginning{_S}in|post-?)"
                            rf"\s{{0,3}}{_FILLER}{_FILLER}{_FILLER}{_point('s_')}", rank=1),
+    WindowPattern("since", rf"\b(?:stopped|stop|paused|stalled|halted|peaked|ended|began|started|plateaued|slowed|"
+                           rf"reversed|accelerated|levell?ed{_S}off)(?:{_S}{_MOVING})?{_S}(?:in|around|after|about)"
+                           rf"{_S}{_point('s_')}", rank=2),
     WindowPattern("century", rf"\b(?:this|the{_S}current|the{_S}present|the{_S}new){_S}(?:century|millennium)\b",
                   rank=1),
     WindowPattern("century", rf"\b(?P<ordinal>21st|twenty-first|twenty{_S}first){_S}century\b", rank=1),
     WindowPattern("decade", rf"\b(?:in|during|over|throughout|across|through){_S}(?:the{_S})?"
                             rf"(?P<s_decade>(?:19|20)\d0)['’]?s\b", rank=1),
     WindowPattern("decade", rf"\b(?P<current>this|the{_S}current|the{_S}present){_S}decade\b", rank=1),
+    WindowPattern("span", rf"\b(?:in|over|during|for){_S}(?:the{_S})?{_APPROX}{_DURATION}{_S}"
+                          rf"(?:to|until|through|ending{_S}in|up{_S}to){_S}{_point('e_')}", rank=0),
     WindowPattern("span", rf"\b(?:for|in|over|during|across|throughout|within|through){_S}{_AGO}{_APPROX}"
                           rf"{_DURATION}", rank=2),
     WindowPattern("span", rf"\b(?:the|these){_S}(?:past|last|previous|latest){_S}{_APPROX}{_DURATION}", rank=3),

@@ -26,7 +26,9 @@ def read_cues(text: str, grammar: Grammar) -> list[Cue]:
     markers_before, markers_after = _negation_markers(text, grammar, [span for _, span in kept])
     breaks = [(match.start(), match.end()) for match in grammar.clause_break.finditer(text)]
     reach = grammar.language.negation_reach
-    return [Cue(kind, span, _negation(span, markers_before, markers_after, breaks, reach)) for kind, span in kept]
+    starts = [span[0] for _, span in kept]
+    return [Cue(kind, span, _negation(span, markers_before, markers_after, breaks, reach, starts))
+            for kind, span in kept]
 
 
 def primary_cue(cues: list[Cue]) -> Cue | None:
@@ -47,8 +49,10 @@ def _negation_markers(text: str, grammar: Grammar, cue_spans: list[tuple[int, in
     return free(grammar.negation_before), free(grammar.negation_after)
 
 
-def _negation(cue: tuple[int, int], before, after, breaks, reach: int) -> tuple[int, int] | None:
+def _negation(cue: tuple[int, int], before, after, breaks, reach: int, cue_starts: list[int]) -> tuple[int, int] | None:
+    """The words denying this cue: a negation before it in its clause with no other cue between, or one after."""
     clause_start = max((end for start, end in breaks if end <= cue[0]), default=0)
+    clause_start = max([clause_start] + [start for start in cue_starts if start < cue[0]])
     clause_end = min((start for start, end in breaks if start >= cue[1]), default=None)
     preceding = [span for span in before if clause_start <= span[0] and span[1] <= cue[0] <= span[1] + reach]
     if preceding:

@@ -2,12 +2,14 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from typing import Callable
 
-from app.ingest.claim_text.anchor import Anchor
+from app.ingest.claim_text.anchor import Anchor, periods_per_year
 from app.ingest.claim_text.grammar import Grammar, overlaps, plain
 from app.ingest.claim_text.language import Language, WindowPattern
+from app.ingest.window_edges import resolve_edge
 
 
 @dataclass(frozen=True)
@@ -105,6 +107,9 @@ def _span(match, pattern: WindowPattern, language: Language, anchor: Anchor | No
     years = _duration_years(match, language)
     if years is None:
         return None
+    end = _point(match, "e_", "end", language)
+    if end is not None:
+        anchor = _anchor_at(end.edge, anchor)
     if anchor is None:
         raise NoAnchor
     exact = years * anchor.per_year
@@ -119,9 +124,19 @@ def _span(match, pattern: WindowPattern, language: Language, anchor: Anchor | No
         period = language.notes[f"period_{anchor.per_year}"]
         notes.append(language.notes["rounded"].format(years=years, periods=periods, period=period))
     first = min(match.start(name) for name in ("approx", "count", "unit") if match.groupdict().get(name))
-    return Window(anchor.label(periods - 1), anchor.label(), pattern.rank,
-                  {"window": match.span(), "start": (first, match.end())}, end_assumed=True,
+    spans = {"window": match.span(), "start": (first, match.end("unit2") if match.groupdict().get("unit2")
+                                               else match.end("unit"))}
+    if end is not None:
+        spans["end"] = end.span
+    return Window(anchor.label(periods - 1), anchor.label(), pattern.rank, spans, end_assumed=end is None,
                   loose=pattern.vague or bool(match.groupdict().get("approx")), notes=tuple(notes))
+
+
+def _anchor_at(edge: str, anchor: Anchor | None) -> Anchor:
+    """The last whole period up to a written end ("the twenty years to 2019"), counted as the series counts."""
+    per_year = anchor.per_year if anchor is not None else periods_per_year(None)
+    end_instant = resolve_edge(edge, "end", field="text").instant
+    return Anchor(index=math.ceil(end_instant * per_year - 1e-9) - 1, per_year=per_year, from_record=False)
 
 
 def _to_anchor(match, pattern: WindowPattern, start: _Point, anchor: Anchor | None, language: Language) -> Window:
