@@ -122,7 +122,8 @@ def _edge_text(value: str | int | float, field: str, sampling: str | None) -> st
                              fix=_fix(TIME_FORMATS_FIX, sampling))
         return str(int(value)) if value.is_integer() else repr(value)
     if isinstance(value, str) and not value.strip():
-        raise ClaimError("the window edge is empty", location=Location(field=field), fix=_fix(TIME_FORMATS_FIX, sampling))
+        raise ClaimError("the window edge is empty", location=Location(field=field),
+                         fix=_fix(TIME_FORMATS_FIX, sampling))
     return str(value)
 
 

@@ -21,10 +21,12 @@ KIND_CUES = {
         rf"global|more|overall|detectable){_S})?(?:(?:global|surface|further|net){_S})?"
         r"(?:warming|rise|increase|growth|change|trend|gain|decline|loss|melting|cooling)\b",
         rf"\bstopped(?:{_S}{_MOVING})?\b", rf"\bno{_S}longer{_S}{_MOVING}\b",
-        rf"\b(?:stop|stopping|halted|stalled|stalling|paused|pause|hiatus|plateau(?:ed|ing|s)?|standstill|stagnat(?:ed|ing|ion)|"
+        rf"\b(?:stop|stopping|halted|stalled|stalling|paused|pause|hiatus|plateau(?:ed|ing|s)?|standstill|"
+        rf"stagnat(?:ed|ing|ion)|"
         rf"flat(?:lined|-lined|tened{_S}out)?|levell?(?:ed|ing){_S}off|unchanged|(?:gone|going){_S}nowhere|"
         rf"stuck)\b",
-        rf"\b(?:is|are|was|were|isn['’]t|aren['’]t){_NOT}?{_S}(?:really{_S}|actually{_S})?{_MOVING}{_S}(?:any{_S}more|anymore)\b",
+        rf"\b(?:is|are|was|were|isn['’]t|aren['’]t){_NOT}?{_S}(?:really{_S}|actually{_S})?{_MOVING}{_S}"
+        rf"(?:any{_S}more|anymore)\b",
         rf"\b(?:is|are|was|were){_NOT}{_S}(?:really{_S}|actually{_S})?{_MOVING}\b",
         rf"\b(?:isn['’]t|aren['’]t|wasn['’]t|weren['’]t){_S}(?:really{_S}|actually{_S})?{_MOVING}\b",
         rf"\b(?:remained|stayed|held|been|kept){_S}(?:flat|stable|steady|level|constant|unchanged)\b",
@@ -67,7 +69,8 @@ KIND_CUES = {
 }
 
 NEGATION_BEFORE = (r"\b(?:not|no|never|nor|false|untrue|myth|wrong|denied|deny|denies|debunk(?:ed|s)?|"
-                   rf"refuted?|nonsense|contrary{_S}to|rather{_S}than|instead{_S}of|far{_S}from|yet{_S}to|failed{_S}to)\b|n['’]t\b")
+                   rf"refuted?|nonsense|contrary{_S}to|rather{_S}than|instead{_S}of|far{_S}from|yet{_S}to|"
+                   rf"failed{_S}to)\b|n['’]t\b")
 NEGATION_AFTER = (rf"\b(?:is|are|was|were|has{_S}been|remains?)(?:{_S}(?:simply|just|plainly|demonstrably))?{_S}"
                   rf"(?:false|wrong|untrue|not{_S}true|nonsense|incorrect|bogus|debunked|a{_S}myth|an{_S}illusion|"
                   rf"an{_S}artefact|an{_S}artifact|a{_S}fiction|a{_S}lie)\b"
