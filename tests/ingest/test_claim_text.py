@@ -60,6 +60,9 @@ def test_corpus_covers_every_kind_negations_and_refusals():
     ("Warming paused this century.", "2001", "2015-09"),
     ("Warming paused so far in the 21st century.", "2001", "2015-09"),
     ("Warming paused since the turn of the century.", "2000", "2015-09"),
+    ("Warming paused since the beginning of this century.", "2001", "2015-09"),
+    ("Warming paused since the start of the century.", "2001", "2015-09"),
+    ("Warming paused in the twenty-first century.", "2001", "2015-09"),
     ("Warming paused for 15 years.", "2000-10", "2015-09"),
     ("Warming paused for fifteen years.", "2000-10", "2015-09"),
     ("Warming paused for the past 18 years and 9 months.", "1997-01", "2015-09"),
@@ -325,9 +328,10 @@ def test_word_salad_from_the_vocabulary_gives_a_claim_or_a_claim_error(text):
 
 
 def _check_any_outcome(text):
-    for made_on in (MADE_ON, None):
+    for made_on, series_span, sampling in ((MADE_ON, None, None), (None, None, None),
+                                           (None, (1850.5, 2014.5), "annual"), (MADE_ON, None, "quarterly")):
         try:
-            claim = parse_claim(text, made_on=made_on)
+            claim = parse_claim(text, made_on=made_on, series_span=series_span, sampling=sampling)
         except ClaimError as error:
             assert error.location.field == "text"
             continue

@@ -4,9 +4,12 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from app.errors import ClaimError
 from app.ingest import series_from_csv
+from app.ingest.times import parse_time
 from app.ingest.window_edges import in_window, resolve_edge, window_points_summary
 from ingest_samples import csv_text, wiggle
 
@@ -116,3 +119,34 @@ def test_bad_edges_name_the_field(given, message):
 def test_wrong_role_is_a_programming_error():
     with pytest.raises(ValueError):
         resolve_edge("1998", "middle")
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.integers(1000, 2999), st.integers(1, 12), st.integers(1, 4))
+def test_periods_tile_the_axis(year, month, quarter):
+    """A period's end is the next period's start, and its mid-period time lies inside it."""
+    next_month = f"{year + month // 12}-{month % 12 + 1:02d}"
+    assert resolve_edge(f"{year}-{month:02d}", "end").instant == pytest.approx(
+        resolve_edge(next_month, "start").instant, abs=1e-9)
+    assert resolve_edge(str(year), "end").instant == resolve_edge(str(year + 1), "start").instant
+    next_quarter = f"{year + quarter // 4}-Q{quarter % 4 + 1}"
+    assert resolve_edge(f"{year}-Q{quarter}", "end").instant == pytest.approx(
+        resolve_edge(next_quarter, "start").instant, abs=1e-9)
+    for label, sampling in ((f"{year}-{month:02d}", "monthly"), (f"{year}-Q{quarter}", "quarterly"),
+                            (str(year), "annual")):
+        mid = parse_time(label).decimal_year  # where the reader puts this period's point
+        start, end = resolve_edge(label, "start").instant, resolve_edge(label, "end").instant
+        assert window_points_summary(np.array([mid]), sampling, start, end).count == 1
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.one_of(st.text(max_size=60), st.integers(), st.floats(allow_nan=True, allow_infinity=True)),
+       st.sampled_from(["start", "end"]), st.sampled_from([None, "monthly", "quarterly", "annual", "irregular"]))
+def test_any_edge_resolves_or_names_the_field(value, role, sampling):
+    try:
+        edge = resolve_edge(value, role, sampling, field="claim.start")
+    except ClaimError as error:
+        assert error.location.field == "claim.start"
+        return
+    assert edge.form in ("year", "month", "quarter", "date", "decimal")
+    assert np.isfinite(edge.instant)

@@ -103,8 +103,13 @@ _YEAR = r"(?<![\w.])(?:1[5-9]|2[01])\d\d(?![\d'’]|\.\d|s\b|[-/](?:\d{1,2}\b|[q
 _MONTH_NAME = r"(?:january|february|march|april|may|june|july|august|september|october|november|december|" \
               r"jan|feb|mar|apr|jun|jul|aug|sept|sep|oct|nov|dec)\.?"
 _PART = r"early|mid|late"
-_NAMED = (rf"the{_S}(?:turn|start|beginning|dawn){_S}of{_S}(?:the{_S}|this{_S})?(?:century|millennium|new{_S}"
-          rf"(?:century|millennium))")
+# Named times: a regex is built from the keys, so every phrase the patterns read has its year here.
+_NAMED_YEARS = {"the turn of the century": 2000, "the turn of the millennium": 2000,
+                "the turn of the new century": 2000, "the turn of the new millennium": 2000,
+                "the start of the century": 2001, "the start of this century": 2001,
+                "the beginning of the century": 2001, "the beginning of this century": 2001,
+                "the new millennium": 2000}
+_NAMED = "|".join(sorted((name.replace(" ", _S) for name in _NAMED_YEARS), key=len, reverse=True))
 _FILLER = rf"(?:(?:the|its|their|a|an|that|record|peak|low|high|minimum|maximum|big|strong|great|super|el|ni[nñ]o|" \
           rf"year|of|in|about|around|roughly|at{_S}least){_S})?"
 
@@ -170,9 +175,8 @@ ENGLISH = Language(
     singular_units=_SINGULAR_UNITS,
     month_names=_MONTHS,
     decade_parts={"early": (1, 0, 2), "mid": (5, 4, 6), "late": (8, 7, 9)},
-    named_years={"the turn of the century": 2000, "the turn of the millennium": 2000,
-                 "the turn of the new century": 2000, "the turn of the new millennium": 2000},
-    ordinals={"21st": 21, "twenty-first": 21, "twenty first": 21},
+    named_years=_NAMED_YEARS,
+    ordinals={"21st": 21, "twenty first": 21},  # as ``plain`` writes them: hyphens read as spaces
     window_examples="'since 1998', 'between 2001 and 2012', 'from January 2016 to March 2020', "
                     "'for the past 15 years' or 'this century'",
     notes={
