@@ -23,6 +23,8 @@ from app.ingest.window_edges import resolve_edge
 
 MAX_CLAIM_CHARS = 2000  # our requirement: a claim is a sentence or two, and the reader's time grows with length
 DEFAULT_KIND = "pause"
+# Our own scale, not calibrated against how often such readings turn out right: it orders readings from sure
+# to doubtful so that a desk can ask the person to confirm the doubtful ones.
 CONFIDENCE_FACTORS = {
     "no_kind": 0.4,
     "other_kinds": 0.7,

@@ -67,7 +67,7 @@ def _range(match, pattern: WindowPattern, language: Language, anchor: Anchor | N
     if start is None:
         return None
     if end is None:
-        return _to_anchor(match, pattern, start, anchor, language)
+        return _to_anchor(match, pattern, start, anchor)
     return Window(start.edge, end.edge, pattern.rank, {"window": match.span(), "start": start.span, "end": end.span},
                   end_assumed=False, loose=pattern.vague or bool(start.others), other_starts=start.others,
                   notes=tuple(note for note in (start.note, end.note) if note))
@@ -75,7 +75,7 @@ def _range(match, pattern: WindowPattern, language: Language, anchor: Anchor | N
 
 def _since(match, pattern: WindowPattern, language: Language, anchor: Anchor | None) -> Window | None:
     start = _point(match, "s_", "start", language)
-    return None if start is None else _to_anchor(match, pattern, start, anchor, language)
+    return None if start is None else _to_anchor(match, pattern, start, anchor)
 
 
 def _century(match, pattern: WindowPattern, language: Language, anchor: Anchor | None) -> Window:
@@ -88,8 +88,8 @@ def _century(match, pattern: WindowPattern, language: Language, anchor: Anchor |
     point = _Point(str(first_year), match.span(), others=(str(first_year - 1),), note=note)
     if century * 100 < anchor.year:
         return Window(point.edge, str(century * 100), pattern.rank, {"window": match.span(), "start": match.span(),
-                      "end": match.span()}, end_assumed=False, other_starts=point.others, notes=(note,))
-    return _to_anchor(match, pattern, point, anchor, language)
+                      "end": match.span()}, end_assumed=False, loose=True, other_starts=point.others, notes=(note,))
+    return _to_anchor(match, pattern, point, anchor)
 
 
 def _decade(match, pattern: WindowPattern, language: Language, anchor: Anchor | None) -> Window:
@@ -100,7 +100,7 @@ def _decade(match, pattern: WindowPattern, language: Language, anchor: Anchor | 
                       {"window": match.span(), "start": match.span(), "end": match.span()}, end_assumed=False)
     if anchor is None:
         raise NoAnchor
-    return _to_anchor(match, pattern, _Point(str(anchor.year // 10 * 10), match.span()), anchor, language)
+    return _to_anchor(match, pattern, _Point(str(anchor.year // 10 * 10), match.span()), anchor)
 
 
 def _span(match, pattern: WindowPattern, language: Language, anchor: Anchor | None) -> Window | None:
@@ -139,7 +139,7 @@ def _anchor_at(edge: str, anchor: Anchor | None) -> Anchor:
     return Anchor(index=math.ceil(end_instant * per_year - 1e-9) - 1, per_year=per_year, from_record=False)
 
 
-def _to_anchor(match, pattern: WindowPattern, start: _Point, anchor: Anchor | None, language: Language) -> Window:
+def _to_anchor(match, pattern: WindowPattern, start: _Point, anchor: Anchor | None) -> Window:
     if anchor is None:
         raise NoAnchor
     spans = {"window": match.span(), "start": start.span}
