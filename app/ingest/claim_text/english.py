@@ -40,6 +40,8 @@ KIND_CUES = {
         rf"\b(?:rate|pace|rise|increase|warming|growth|decline|loss){_S}(?:has{_S}|have{_S})?"
         rf"(?:eased|halved|moderated|dropped(?:{_S}off)?|fallen|declined|tapered{_S}off)\b",
         r"\btapered\b",
+        rf"\b(?:half|a{_S}third|a{_S}fraction){_S}(?:of{_S})?the{_S}(?:pace|rate|speed)\b",
+        rf"\bhalved{_S}(?:its|their|the){_S}(?:pace|rate|speed)\b",
     ),
     "reversal": (
         r"\b(?:cooling|cooled|cooler|colder|advancing|advanced)\b",
@@ -47,7 +49,7 @@ KIND_CUES = {
         rf"\b(?:fell|dropped|declined|decreased|tumbled|plunged|plummeted)(?:{_S}(?:sharply|steadily|steeply|"
         rf"slightly))?{_S}(?:from|between|since|after)\b",
         rf"\b(?:falling|fallen|fell|dropping|dropped|declining|declined|decreasing|decreased|going{_S}down|"
-        rf"gone{_S}down|trending{_S}down(?:ward)?|shrinking){_S}(?:steadily{_S})?(?:since|ever{_S}since)\b",
+        rf"gone{_S}down|trending{_S}down(?:ward)?|shrinking){_S}(?:steadily{_S})?(?:since|ever{_S}since|for)\b",
         r"\b(?:recover(?:ed|ing|y|s)?|rebound(?:ed|ing|s)?|revers(?:ed|al|ing|e))\b",
         rf"\b(?:bounced|bouncing|come|coming|came|is|are){_S}back\b",
         rf"\b(?:turned|turning){_S}(?:around|down(?:ward)?)\b",
@@ -64,6 +66,8 @@ KIND_CUES = {
         rf"\b(?:picked|picking|picks){_S}up(?:{_S}(?:pace|speed|steam))?\b",
         rf"\b(?:ramped|ramping){_S}up\b",
         rf"\brecord{_S}(?:pace|speed|rate)\b",
+        rf"\b(?:twice|double|three{_S}times|triple|treble)(?:{_S}the)?{_S}(?:pace|rate|speed)\b",
+        rf"\b(?:doubled|tripled|trebled|quadrupled){_S}(?:its|their|the){_S}(?:pace|rate|speed)\b",
         r"\b(?:rate|pace|speed)\b[^.;!?]{0,40}\b(?:doubled|tripled|trebled|quadrupled)\b",
     ),
 }
@@ -82,7 +86,8 @@ CLAUSE_BREAK = rf"[.;!?](?!\d)|\b(?:but|however|whereas|while|although|though|ye
 
 _MONTHS = {"january": 1, "february": 2, "march": 3, "april": 4, "may": 5, "june": 6, "july": 7, "august": 8,
            "september": 9, "october": 10, "november": 11, "december": 12, "jan": 1, "feb": 2, "mar": 3, "apr": 4,
-           "jun": 6, "jul": 7, "aug": 8, "sep": 9, "sept": 9, "oct": 10, "nov": 11, "dec": 12}
+           "jun": 6, "jul": 7, "aug": 8, "sep": 9, "sept": 9, "oct": 10, "nov": 11, "dec": 12,
+           "spring": 3, "summer": 6, "autumn": 9, "fall": 9}  # a season as the month it begins in
 _NUMBER_WORDS = {
     "a": 1, "an": 1, "one": 1, "two": 2, "three": 3, "four": 4, "five": 5, "six": 6, "seven": 7, "eight": 8,
     "nine": 9, "ten": 10, "eleven": 11, "twelve": 12, "thirteen": 13, "fourteen": 14, "fifteen": 15,
@@ -101,7 +106,7 @@ _NUMBER = (rf"(?:\d{{1,3}}(?:\.\d{{1,2}})?|(?:{_TENS})(?:[-\s](?:{_UNITS}))?|{_T
 _UNIT = r"(?:years?|yrs?|decades?|century|centuries|months?)"
 _YEAR = r"(?<![\w.])(?:1[5-9]|2[01])\d\d(?![\d'’]|\.\d|s\b|[-/](?:\d{1,2}\b|[qQ]))"
 _MONTH_NAME = r"(?:january|february|march|april|may|june|july|august|september|october|november|december|" \
-              r"jan|feb|mar|apr|jun|jul|aug|sept|sep|oct|nov|dec)\.?"
+              r"jan|feb|mar|apr|jun|jul|aug|sept|sep|oct|nov|dec|spring|summer|autumn|fall)\.?"
 _PART = r"early|mid|late"
 # Named times: a regex is built from the keys, so every phrase the patterns read has its year here.
 _NAMED_YEARS = {"the turn of the century": 2000, "the turn of the millennium": 2000,
@@ -111,7 +116,7 @@ _NAMED_YEARS = {"the turn of the century": 2000, "the turn of the millennium": 2
                 "the new millennium": 2000}
 _NAMED = "|".join(sorted((name.replace(" ", _S) for name in _NAMED_YEARS), key=len, reverse=True))
 _FILLER = rf"(?:(?:the|its|their|a|an|that|record|peak|low|high|minimum|maximum|big|strong|great|super|el|ni[nñ]o|" \
-          rf"year|of|in|about|around|roughly|at{_S}least){_S})?"
+          rf"year|of|in|about|around|roughly|at{_S}least|peaking|peaked|bottoming|topping|out|hitting|reaching){_S})?"
 
 
 def _point(prefix: str) -> str:
@@ -122,6 +127,7 @@ def _point(prefix: str) -> str:
             rf"|(?P<{p}month>{_MONTH_NAME}){_S}(?:of{_S})?(?P<{p}myear>{_YEAR})"
             rf"|(?<![\w-])(?:the{_S})?(?:(?P<{p}part>{_PART})(?:-|{_S}|-{_S}))?(?:(?P<{p}decade>(?:1[5-9]|20)\d0)|"
             rf"['’]?(?P<{p}decade2>[2-9]0))['’]?s\b"
+            rf"|(?P<{p}ypart>{_PART})(?:-|{_S}|-{_S})(?P<{p}pyear>{_YEAR})"
             rf"|(?P<{p}named>{_NAMED})"
             rf"|(?P<{p}year>{_YEAR}))")
 
@@ -131,7 +137,8 @@ _TO_BARE = rf"(?:\s{{0,3}}(?:-|–|—)\s{{0,3}}|{_S}(?:to|until|till|through|th
 _NOW = rf"(?P<e_now>now|today|the{_S}present(?:{_S}day)?|present|date|this{_S}year)"
 _AGO = rf"(?:(?:the|these|those){_S})?(?:(?:past|last|previous|preceding|recent|latest){_S})?"
 _APPROX = rf"(?P<approx>(?:more{_S}than|over|almost|nearly|about|around|roughly|at{_S}least|some|well{_S}over){_S})?"
-_DURATION = (rf"(?P<count>{_NUMBER})?(?P<half>{_S}and{_S}a{_S}half)?\s{{0,3}}-?(?P<unit>{_UNIT})"
+_DURATION = (rf"(?P<count>{_NUMBER})?(?P<half>{_S}and{_S}a{_S}half)?\s{{0,3}}-?"
+             rf"(?:(?:straight|consecutive|successive|full|whole|long){_S})?(?P<unit>{_UNIT})"
              rf"(?P<half2>{_S}and{_S}a{_S}half)?(?:(?:{_S}and|,){_S}(?P<count2>{_NUMBER}){_S}(?P<unit2>{_UNIT}))?\b")
 
 WINDOW_PATTERNS = (
@@ -151,6 +158,8 @@ WINDOW_PATTERNS = (
     WindowPattern("decade", rf"\b(?P<current>this|the{_S}current|the{_S}present){_S}decade\b", rank=1),
     WindowPattern("span", rf"\b(?:in|over|during|for){_S}(?:the{_S})?{_APPROX}{_DURATION}{_S}"
                           rf"(?:to|until|through|ending{_S}in|up{_S}to){_S}{_point('e_')}", rank=0),
+    WindowPattern("span", rf"\b(?:in|over|during|for){_S}(?:the{_S})?{_APPROX}{_DURATION}{_S}"
+                          rf"(?:since|after|from|starting{_S}in){_S}{_point('s_')}", rank=0),
     WindowPattern("span", rf"\b(?:for|in|over|during|across|throughout|within|through){_S}{_AGO}{_APPROX}"
                           rf"{_DURATION}", rank=2),
     WindowPattern("span", rf"\b(?:the|these){_S}(?:past|last|previous|latest){_S}{_APPROX}{_DURATION}", rank=3),
@@ -175,6 +184,7 @@ ENGLISH = Language(
     singular_units=_SINGULAR_UNITS,
     month_names=_MONTHS,
     decade_parts={"early": (1, 0, 2), "mid": (5, 4, 6), "late": (8, 7, 9)},
+    year_parts={"early": (2, 1, 3), "mid": (7, 6, 8), "late": (11, 10, 12)},
     named_years=_NAMED_YEARS,
     ordinals={"21st": 21, "twenty first": 21},  # as ``plain`` writes them: hyphens read as spaces
     window_examples="'since 1998', 'between 2001 and 2012', 'from January 2016 to March 2020', "

@@ -5,11 +5,13 @@ named groups the window patterns may carry:
 
 - a time point, prefixed ``s_`` (start) or ``e_`` (end): ``iso`` (1998-03, 1998-Q2, 1998-03-15), ``month`` with
   ``myear`` (a month name and its year), ``decade`` (a four-digit decade such as 1990) or ``decade2`` (a two-digit
-  one such as 90) with an optional ``part`` (a key of ``decade_parts``), ``named`` (a key of ``named_years``),
+  one such as 90) with an optional ``part`` (a key of ``decade_parts``), ``ypart`` with ``pyear`` (a key of
+  ``year_parts`` and a year: "mid-2022"), ``named`` (a key of ``named_years``),
   ``year``; and ``e_now`` when the end is the time the claim was made;
 - a duration: ``count`` (a number, digits or ``number_words``), ``unit`` (a key of ``unit_years``), optional
   ``half`` / ``half2`` ("and a half"), ``count2`` with ``unit2`` (a second part, "and 9 months"), ``approx``
-  (the words hedging it: "more than", "nearly");
+  (the words hedging it: "more than", "nearly"); with an end point it counts back from that end ("the ten years
+  to 2012"), with a start point forward from that start ("the decade since 2010");
 - a century: ``ordinal`` (a key of ``ordinals``); a decade: ``current`` ("this decade").
 
 Every pattern keeps its repeats bounded and never nests them (``{1,3}`` over one character class at most):
@@ -47,6 +49,7 @@ class Language:
     singular_units: frozenset[str]  # units that name one of themselves without a number ("the last decade")
     month_names: dict[str, int]
     decade_parts: dict[str, tuple[int, ...]]  # "mid" -> years into the decade, the chosen one first
+    year_parts: dict[str, tuple[int, ...]]  # "mid" -> months of the year, the chosen one first
     named_years: dict[str, int]  # "the turn of the century" -> 2000
     ordinals: dict[str, int]  # "21st" -> 21
     window_examples: str  # how to write a window, for the refusal's fix

@@ -108,8 +108,11 @@ def _span(match, pattern: WindowPattern, language: Language, anchor: Anchor | No
     if years is None:
         return None
     end = _point(match, "e_", "end", language)
+    start = _point(match, "s_", "start", language)
     if end is not None:
-        anchor = _anchor_at(end.edge, anchor)
+        anchor = _anchor_at(end.edge, anchor, periods_after=0)
+    elif start is not None:
+        anchor = _anchor_at(start.edge, anchor, periods_after=round(years * _per_year(anchor)) - 1)
     if anchor is None:
         raise NoAnchor
     exact = years * anchor.per_year
@@ -128,15 +131,26 @@ def _span(match, pattern: WindowPattern, language: Language, anchor: Anchor | No
                                                else match.end("unit"))}
     if end is not None:
         spans["end"] = end.span
-    return Window(anchor.label(periods - 1), anchor.label(), pattern.rank, spans, end_assumed=end is None,
+    if start is not None:
+        spans["end"], spans["start"] = spans["start"], start.span
+    return Window(anchor.label(periods - 1), anchor.label(), pattern.rank, spans,
+                  end_assumed=end is None and start is None,
                   loose=pattern.vague or bool(match.groupdict().get("approx")), notes=tuple(notes))
 
 
-def _anchor_at(edge: str, anchor: Anchor | None) -> Anchor:
-    """The last whole period up to a written end ("the twenty years to 2019"), counted as the series counts."""
-    per_year = anchor.per_year if anchor is not None else periods_per_year(None)
-    end_instant = resolve_edge(edge, "end", field="text").instant
-    return Anchor(index=math.ceil(end_instant * per_year - 1e-9) - 1, per_year=per_year, from_record=False)
+def _per_year(anchor: Anchor | None) -> int:
+    return anchor.per_year if anchor is not None else periods_per_year(None)
+
+
+def _anchor_at(edge: str, anchor: Anchor | None, periods_after: int) -> Anchor:
+    """A duration's last period, counted as the series counts: the period a written end closes ("the twenty
+    years to 2019"), or ``periods_after`` periods on from the one a written start opens ("the decade since 2010")."""
+    per_year = _per_year(anchor)
+    if periods_after == 0:
+        last = math.ceil(resolve_edge(edge, "end", field="text").instant * per_year - 1e-9) - 1
+    else:
+        last = math.floor(resolve_edge(edge, "start", field="text").instant * per_year + 1e-9) + periods_after
+    return Anchor(index=last, per_year=per_year, from_record=False)
 
 
 def _to_anchor(match, pattern: WindowPattern, start: _Point, anchor: Anchor | None) -> Window:
@@ -163,6 +177,9 @@ def _point(match, prefix: str, role: str, language: Language) -> _Point | None:
     if "month" in group:
         month = language.month_names[plain(group["month"]).rstrip(".")]
         return _Point(f"{int(group['myear']):04d}-{month:02d}", span)
+    if "ypart" in group:
+        return _part_point(language.year_parts[plain(group["ypart"])], lambda month: f"{group['pyear']}-{month:02d}",
+                           span, match.string, language)
     if "named" in group:
         edge = str(language.named_years[plain(group["named"])])
         return _Point(edge, span, note=language.notes["named"].format(words=group["named"], edge=edge))
@@ -177,10 +194,17 @@ def _decade_point(group: dict[str, str], span: tuple[int, int], role: str, text:
     if "part" not in group:
         edge = str(first if role == "start" else first + 9)
         return _Point(edge, span)
-    chosen, *others = language.decade_parts[plain(group["part"])]
-    edge = str(first + chosen)
+    return _part_point(language.decade_parts[plain(group["part"])], lambda year: str(first + year), span, text,
+                       language)
+
+
+def _part_point(offsets: tuple[int, ...], edge_of: Callable[[int], str], span: tuple[int, int], text: str,
+                language: Language) -> _Point:
+    """A part of a decade or a year ("the mid-1990s", "late 2015"): the chosen edge first, the others offered."""
+    chosen, *others = offsets
+    edge = edge_of(chosen)
     note = language.notes["loose_edge"].format(words=text[span[0]:span[1]], edge=edge)
-    return _Point(edge, span, others=tuple(str(first + other) for other in others), note=note)
+    return _Point(edge, span, others=tuple(edge_of(other) for other in others), note=note)
 
 
 def _through_plural(text: str, span: tuple[int, int]) -> tuple[int, int]:
