@@ -1,0 +1,140 @@
+"""A table found in a grid of cells (a sheet, a plain-text file): its header row, its data block, what lies around.
+
+Titles, merged title rows and notes above the table are skipped: the header is the first row with at least two
+filled cells, not all numbers, whose next row holds at least two numbers or times. The data block runs from the
+header to the first blank row or row of text alone. Notes after it are ignored and said so; a second block of
+data after it is refused, since which of the two is the series would be a guess.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Sequence
+
+from app.errors import Location, SeriesFormatError
+from app.ingest.cells import shown
+from app.ingest.csv_table import RawTable, column_names
+from app.ingest.limits import ReadLimits, refuse_cells, refuse_columns, refuse_rows
+from app.ingest.numbers import is_missing, looks_numeric
+from app.ingest.times import parses_as_time
+
+HEADER_SEARCH_ROWS = 200  # a header further down than this is not a title block; our requirement
+
+
+@dataclass(frozen=True)
+class GridRow:
+    number: int  # 1-based, as a person sees it in a spreadsheet or editor
+    cells: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class FoundTable:
+    table: RawTable
+    reading: tuple[str, ...]  # what was skipped or ignored, for the preview
+
+
+def is_blank(row: GridRow) -> bool:
+    return not any(cell.strip() for cell in row.cells)
+
+
+def _holds_data(row: GridRow) -> bool:
+    """At least two cells read as numbers or times (a missing marker does not count)."""
+    return sum(1 for c in row.cells if c.strip() and not is_missing(c) and _datum(c)) >= 2
+
+
+def _datum(cell: str) -> bool:
+    return looks_numeric(cell, decimal_comma=False) or parses_as_time(cell)
+
+
+def _is_text_only(row: GridRow) -> bool:
+    return not any(c.strip() and not is_missing(c) and _datum(c) for c in row.cells)
+
+
+def find_header(rows: Sequence[GridRow], header_row: int | None) -> int:
+    """The index in ``rows`` of the header row: the one asked for, else the first that fits (see the module)."""
+    if header_row is not None:
+        for index, row in enumerate(rows):
+            if row.number == header_row:
+                if is_blank(row):
+                    raise SeriesFormatError(f"row {header_row}, chosen as the header, is empty",
+                                            location=Location(row=header_row), fix="Choose the row naming the columns")
+                return index
+        raise SeriesFormatError(f"there is no row {header_row} to read as the header",
+                                location=Location(row=header_row), fix="Choose a row inside the table")
+    for index, row in enumerate(rows[:HEADER_SEARCH_ROWS]):
+        filled = [c for c in row.cells if c.strip()]
+        if len(filled) < 2 or all(_datum(c) for c in filled):
+            continue
+        following = next((r for r in rows[index + 1:] if not is_blank(r)), None)
+        if following is not None and _holds_data(following):
+            return index
+    first = next((r.number for r in rows if not is_blank(r)), 1)
+    raise SeriesFormatError("no header row followed by rows of numbers was found", location=Location(row=first),
+                            fix="Put a row naming the columns (e.g. year, value) right above the data, "
+                                "or choose the header row by number")
+
+
+def block_end(rows: Sequence[GridRow], header: int) -> int:
+    """The index after the last data row of the block under ``header``."""
+    end = header + 1
+    while end < len(rows) and not is_blank(rows[end]) and not _is_text_only(rows[end]):
+        end += 1
+    return end
+
+
+def table_from_grid(rows: Sequence[GridRow], *, kind: str, header_row: int | None, limits: ReadLimits,
+                    ragged: str) -> FoundTable:
+    """The table in ``rows``. ``ragged`` says what a data row longer or shorter than the header gets: "pad" (a
+    sheet: short rows are padded with blanks, cells right of the header are ignored) or "refuse" (plain text)."""
+    if not any(not is_blank(r) for r in rows):
+        raise SeriesFormatError("the file is empty", location=Location(row=1),
+                                fix="Upload a table with a header row (e.g. year, value) and one row per time")
+    header = find_header(rows, header_row)
+    end = block_end(rows, header)
+    refuse_rows(end - header - 1, limits, Location(row=rows[end - 1].number))
+    cells_in_header = list(rows[header].cells)
+    while cells_in_header and not cells_in_header[-1].strip():
+        cells_in_header.pop()
+    refuse_columns(len(cells_in_header), limits, Location(row=rows[header].number))
+    refuse_cells(len(cells_in_header) * (end - header - 1), limits, Location(row=rows[end - 1].number))
+    names = column_names(cells_in_header, rows[header].number)
+    width = len(names)
+    data = [r for r in rows[header + 1:end]]
+    reading: list[str] = []
+    above = sum(1 for r in rows[:header] if not is_blank(r))
+    if above:
+        reading.append(f"skipped {above} row{'s' * (above != 1)} of titles or notes above the header "
+                       f"(row {rows[header].number})")
+    cut_right = 0
+    fitted = []
+    for row in data:
+        cells = row.cells
+        if len(cells) != width:
+            if ragged == "refuse" and (len(cells) < width or any(c.strip() for c in cells[width:])):
+                raise SeriesFormatError(f"the row has {len(cells)} fields but the header has {width}",
+                                        location=Location(row=row.number),
+                                        fix=f"Give every row {width} fields, one per header column, or mark a "
+                                            "missing value with NA")
+            cut_right += any(c.strip() for c in cells[width:])
+            cells = tuple(cells[:width]) + ("",) * (width - len(cells))
+        fitted.append(tuple(cells))
+    if cut_right:
+        reading.append(f"ignored cells right of the table's last column ({names[-1]}) on {cut_right} rows")
+    reading.extend(_after_block(rows, end))
+    table = RawTable(delimiter=kind, header_row=rows[header].number, names=names,
+                     rows=tuple(r.number for r in data), cells=tuple(fitted))
+    return FoundTable(table=table, reading=tuple(reading))
+
+
+def _after_block(rows: Sequence[GridRow], end: int) -> list[str]:
+    rest = [r for r in rows[end:] if not is_blank(r)]
+    second = next((r for r in rest if _holds_data(r)), None)
+    if second is not None:
+        raise SeriesFormatError(f"a second block of data starts at row {second.number}, after the table that "
+                                f"ends at row {rows[end - 1].number}", location=Location(row=second.number),
+                                fix="Keep one table per file or sheet (delete or move the other block), or remove "
+                                    "the blank line if the two blocks are one table")
+    if not rest:
+        return []
+    return [f"ignored {len(rest)} row{'s' * (len(rest) != 1)} of notes after the data (from row {rest[0].number}: "
+            f"{shown(' '.join(c for c in rest[0].cells if c.strip()))})"]
