@@ -40,3 +40,9 @@ def refuse_cells(count: int, limits: ReadLimits, where: Location) -> None:
     if count > limits.max_cells:
         raise LimitExceeded(f"the table has more than {limits.max_cells:,} cells, the most this service reads",
                             location=where, fix="Keep only the time column and the series you need")
+
+
+def refuse_bytes(size: int, limits: ReadLimits) -> None:
+    if size > limits.max_bytes:
+        raise LimitExceeded(f"the file is larger than {limits.max_bytes:,} bytes, the most this service reads",
+                            body_too_large=True, fix="Send a smaller file, or only the part with the series")

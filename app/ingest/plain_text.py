@@ -10,10 +10,10 @@ from __future__ import annotations
 
 import io
 
-from app.errors import LimitExceeded, Location
+from app.errors import Location
 from app.ingest.decode import decode_text
 from app.ingest.grid import GridRow, block_end, find_header, table_from_grid
-from app.ingest.limits import ReadLimits, refuse_rows
+from app.ingest.limits import ReadLimits, refuse_bytes, refuse_rows
 from app.ingest.options import IngestOptions, check_options
 from app.ingest.tabular import ParsedTable, parsed_from_table
 
@@ -23,9 +23,7 @@ COMMENT_MARKS = ("#", "%", "!")
 def read_plain_text(data: str | bytes, options: IngestOptions = IngestOptions(),
                     limits: ReadLimits = ReadLimits()) -> ParsedTable:
     check_options(options)
-    if len(data) > limits.max_bytes:
-        raise LimitExceeded(f"the file is larger than {limits.max_bytes:,} bytes, the most this service reads",
-                            body_too_large=True, fix="Send a shorter series")
+    refuse_bytes(len(data), limits)
     lines = _lines(decode_text(data), limits)
     split = [GridRow(number, tuple(line.split())) for number, line in lines]
     header = find_header(split, options.header_row)
