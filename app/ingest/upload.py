@@ -1,4 +1,4 @@
-"""One entry for a file of any format this service reads: spreadsheet, CSV or plain text, told apart by content.
+"""One entry for a file of any format this service reads (and one for a link to such a file): spreadsheet, CSV or plain text, told apart by content.
 
 A file's name can lie, so the bytes decide: a zip or old Office file goes to the spreadsheet reader; text whose
 first lines split into the same number (more than one) of fields on a comma, semicolon or tab is CSV; any other
@@ -7,9 +7,12 @@ text is a plain-text table (spaces or fixed-width columns).
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 from app.ingest.csv_reader import read_csv_text
 from app.ingest.csv_table import DELIMITERS, SNIFF_LINES, sniff_delimiter
 from app.ingest.decode import decode_text
+from app.ingest.fetch import Fetched, FetchPolicy, Resolver, fetch, resolve_addresses
 from app.ingest.limits import ReadLimits, refuse_bytes
 from app.ingest.options import IngestOptions, check_options
 from app.ingest.plain_text import COMMENT_MARKS, read_plain_text
@@ -42,3 +45,12 @@ def _is_csv(text: str) -> bool:
     delimiter = sniff_delimiter(lines)
     widths = {len(line.split(delimiter)) for line in lines}
     return delimiter in DELIMITERS and min(widths) > 1 and len(widths) == 1
+
+
+def read_link(url: str, options: IngestOptions = IngestOptions(), policy: FetchPolicy = FetchPolicy(),
+              limits: ReadLimits = ReadLimits(), *, resolve: Resolver = resolve_addresses) -> tuple[ParsedTable, Fetched]:
+    """The table at a link, with where it came from in the series' notes, and the fetch's full provenance."""
+    fetched = fetch(url, replace(policy, max_bytes=min(policy.max_bytes, limits.max_bytes)), resolve=resolve)
+    table = read_upload(fetched.content, options, limits)
+    series = replace(table.series, notes=table.series.notes + (fetched.provenance_note(),))
+    return replace(table, series=series), fetched
