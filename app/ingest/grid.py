@@ -1,8 +1,8 @@
 """A table found in a grid of cells (a sheet, a plain-text file): its header row, its data block, what lies around.
 
 Titles, merged title rows and notes above the table are skipped: the header is the first row with at least two
-filled cells, not all numbers, whose next row holds at least two numbers or times. The data block runs from the
-header to the first blank row or row of text alone. Notes after it are ignored and said so; a second block of
+filled cells, not all numbers, followed by a row holding at least two numbers or times (a row or two of units or
+sources may sit between them). The data block runs from there to the first blank row or row of text alone. Notes after it are ignored and said so; a second block of
 data after it is refused, since which of the two is the series would be a guess.
 """
 
@@ -19,6 +19,7 @@ from app.ingest.numbers import is_missing, looks_numeric
 from app.ingest.times import parses_as_time
 
 HEADER_SEARCH_ROWS = 200  # a header further down than this is not a title block; our requirement
+UNITS_ROWS = 2  # rows of text (units, sources) allowed between the header and the data; our requirement
 
 
 @dataclass(frozen=True)
@@ -50,33 +51,87 @@ def _is_text_only(row: GridRow) -> bool:
     return not any(c.strip() and not is_missing(c) and _datum(c) for c in row.cells)
 
 
-def find_header(rows: Sequence[GridRow], header_row: int | None) -> int:
-    """The index in ``rows`` of the header row: the one asked for, else the first that fits (see the module)."""
+@dataclass(frozen=True)
+class Block:
+    """Indices into the rows: the header, the first data row (a units row may sit between) and one past the last."""
+
+    header: int
+    first: int
+    end: int
+
+
+def locate_block(rows: Sequence[GridRow], header_row: int | None) -> Block:
+    """The header (the row asked for, else the first that fits; see the module) and the data block under it."""
     if header_row is not None:
-        for index, row in enumerate(rows):
-            if row.number == header_row:
-                if is_blank(row):
-                    raise SeriesFormatError(f"row {header_row}, chosen as the header, is empty",
-                                            location=Location(row=header_row), fix="Choose the row naming the columns")
-                return index
-        raise SeriesFormatError(f"there is no row {header_row} to read as the header",
-                                location=Location(row=header_row), fix="Choose a row inside the table")
-    for index, row in enumerate(rows[:HEADER_SEARCH_ROWS]):
-        filled = [c for c in row.cells if c.strip()]
-        if len(filled) < 2 or all(_datum(c) for c in filled):
-            continue
-        following = next((r for r in rows[index + 1:] if not is_blank(r)), None)
-        if following is not None and _holds_data(following):
-            return index
-    first = next((r.number for r in rows if not is_blank(r)), 1)
-    raise SeriesFormatError("no header row followed by rows of numbers was found", location=Location(row=first),
+        header = _asked_header(rows, header_row)
+        first = _first_data(rows, header, UNITS_ROWS)
+        if first is None:
+            raise SeriesFormatError(f"no rows of numbers follow row {header_row}, chosen as the header",
+                                    location=Location(row=header_row), fix="Choose the row naming the columns")
+        return Block(header, first, _block_end(rows, first))
+    # First a header right above its data; only then one with a units row or two between, as wide as the data
+    # (so a title line of several words above the header is not taken for it).
+    # Of several such rows above the same data, the nearest is the header.
+    for between in (0, UNITS_ROWS):
+        fits = [(index, _header_fit(rows, index, between)) for index in range(min(len(rows), HEADER_SEARCH_ROWS))]
+        fits = [(index, first) for index, first in fits if first is not None]
+        if fits:
+            first = fits[0][1]
+            header = max(index for index, start in fits if start == first)
+            return Block(header, first, _block_end(rows, first))
+    first_row = next((r.number for r in rows if not is_blank(r)), 1)
+    raise SeriesFormatError("no header row followed by rows of numbers was found", location=Location(row=first_row),
                             fix="Put a row naming the columns (e.g. year, value) right above the data, "
                                 "or choose the header row by number")
 
 
-def block_end(rows: Sequence[GridRow], header: int) -> int:
-    """The index after the last data row of the block under ``header``."""
-    end = header + 1
+def _header_fit(rows: Sequence[GridRow], index: int, between: int) -> int | None:
+    """The first data row under ``rows[index]`` if that row can be the header, else None."""
+    filled = [c for c in rows[index].cells if c.strip()]
+    if len(filled) < 2 or all(_datum(c) for c in filled):
+        return None
+    first = _first_data(rows, index, between)
+    if first is None or (first != _next_filled(rows, index) and _width(rows[first]) != _width(rows[index])):
+        return None
+    return first
+
+
+def _asked_header(rows: Sequence[GridRow], header_row: int) -> int:
+    for index, row in enumerate(rows):
+        if row.number == header_row and not is_blank(row):
+            return index
+    raise SeriesFormatError(f"row {header_row}, chosen as the header, is empty or outside the table",
+                            location=Location(row=header_row), fix="Choose the row naming the columns")
+
+
+def _first_data(rows: Sequence[GridRow], header: int, between: int) -> int | None:
+    """The first row of data under the header, past at most ``between`` rows of text (units, sources)."""
+    text_rows = 0
+    for index in range(header + 1, len(rows)):
+        if is_blank(rows[index]):
+            continue
+        if _holds_data(rows[index]):
+            return index
+        text_rows += 1
+        if text_rows > between:
+            return None
+    return None
+
+
+def _next_filled(rows: Sequence[GridRow], index: int) -> int | None:
+    return next((i for i in range(index + 1, len(rows)) if not is_blank(rows[i])), None)
+
+
+def _width(row: GridRow) -> int:
+    cells = list(row.cells)
+    while cells and not cells[-1].strip():
+        cells.pop()
+    return len(cells)
+
+
+def _block_end(rows: Sequence[GridRow], first: int) -> int:
+    """The index after the last data row of the block starting at ``first``."""
+    end = first + 1
     while end < len(rows) and not is_blank(rows[end]) and not _is_text_only(rows[end]):
         end += 1
     return end
@@ -89,22 +144,26 @@ def table_from_grid(rows: Sequence[GridRow], *, kind: str, header_row: int | Non
     if not any(not is_blank(r) for r in rows):
         raise SeriesFormatError("the file is empty", location=Location(row=1),
                                 fix="Upload a table with a header row (e.g. year, value) and one row per time")
-    header = find_header(rows, header_row)
-    end = block_end(rows, header)
-    refuse_rows(end - header - 1, limits, Location(row=rows[end - 1].number))
+    block = locate_block(rows, header_row)
+    header, end = block.header, block.end
+    refuse_rows(end - block.first, limits, Location(row=rows[end - 1].number))
     cells_in_header = list(rows[header].cells)
     while cells_in_header and not cells_in_header[-1].strip():
         cells_in_header.pop()
     refuse_columns(len(cells_in_header), limits, Location(row=rows[header].number))
-    refuse_cells(len(cells_in_header) * (end - header - 1), limits, Location(row=rows[end - 1].number))
+    refuse_cells(len(cells_in_header) * (end - block.first), limits, Location(row=rows[end - 1].number))
     names = column_names(cells_in_header, rows[header].number)
     width = len(names)
-    data = [r for r in rows[header + 1:end]]
+    data = [r for r in rows[block.first:end] if not is_blank(r)]
     reading: list[str] = []
     above = sum(1 for r in rows[:header] if not is_blank(r))
     if above:
         reading.append(f"skipped {above} row{'s' * (above != 1)} of titles or notes above the header "
                        f"(row {rows[header].number})")
+    between = [r.number for r in rows[header + 1:block.first] if not is_blank(r)]
+    if between:
+        reading.append(f"skipped row{'s' * (len(between) != 1)} {', '.join(map(str, between))} of text between the "
+                       "header and the data (units or sources)")
     cut_right = 0
     fitted = []
     for row in data:

@@ -12,7 +12,7 @@ from dataclasses import replace
 from app.errors import InputError, Location, SeriesFormatError, UnsupportedMediaType
 from app.ingest.bounded_zip import check_every_member, open_bounded_zip, read_member
 from app.ingest.cells import shown, short_list
-from app.ingest.grid import find_header, table_from_grid
+from app.ingest.grid import GridRow, locate_block, table_from_grid
 from app.ingest.limits import ReadLimits
 from app.ingest.ods_book import ODS_MIMETYPE, ods_workbook
 from app.ingest.options import IngestOptions, check_options
@@ -28,9 +28,9 @@ def read_spreadsheet(data: bytes, options: IngestOptions = IngestOptions(),
                      limits: ReadLimits = ReadLimits()) -> ParsedTable:
     check_options(options)
     book = open_workbook(data, limits)
-    name = _chosen_sheet(book, options)
+    name, rows = _chosen_sheet(book, options)
     try:
-        found = table_from_grid(book.rows(name), kind="spreadsheet", header_row=options.header_row, limits=limits,
+        found = table_from_grid(rows, kind="spreadsheet", header_row=options.header_row, limits=limits,
                                 ragged="pad")
         parsed = parsed_from_table(found.table, options, decimal_comma=options.decimal_comma,
                                    reading=(f"read sheet {shown(name)} of {len(book.sheets)}",) + found.reading)
@@ -68,21 +68,21 @@ def _refuse_ole(data: bytes) -> None:
                                fix="Save it as .xlsx or CSV and upload that")
 
 
-def _chosen_sheet(book: Workbook, options: IngestOptions) -> str:
+def _chosen_sheet(book: Workbook, options: IngestOptions) -> tuple[str, list[GridRow]]:
     if options.sheet is not None:
         for match in (lambda n: n == options.sheet, lambda n: n.strip().lower() == options.sheet.strip().lower()):
             found = [n for n in book.tables if match(n)]
             if found:
-                return found[0]
+                return found[0], book.rows(found[0])
         raise SeriesFormatError(f"there is no sheet named {shown(options.sheet)}; the sheets are "
                                 f"{short_list([shown(n) for n in book.tables])}", location=Location(field="sheet"),
                                 fix="Give the sheet's name as it is written on its tab")
     for name in book.tables:
         rows = book.rows(name)
         try:
-            find_header(rows, options.header_row)
+            locate_block(rows, options.header_row)
         except SeriesFormatError:
             continue
-        return name
+        return name, rows
     raise SeriesFormatError(f"no sheet holds a table (sheets: {short_list([shown(n) for n in book.sheets])})",
                             fix="Put a row naming the columns above the data, or choose the sheet and header row")

@@ -7,10 +7,11 @@ text is a plain-text table (spaces or fixed-width columns).
 
 from __future__ import annotations
 
+import csv
 from dataclasses import replace
 
 from app.ingest.csv_reader import read_csv_text
-from app.ingest.csv_table import DELIMITERS, SNIFF_LINES, sniff_delimiter
+from app.ingest.csv_table import SNIFF_LINES, sniff_delimiter
 from app.ingest.decode import decode_text
 from app.ingest.fetch import Fetched, FetchPolicy, Resolver, fetch, resolve_addresses
 from app.ingest.limits import ReadLimits, refuse_bytes
@@ -43,8 +44,11 @@ def _is_csv(text: str) -> bool:
     if not lines:
         return True  # the CSV reader says the file is empty
     delimiter = sniff_delimiter(lines)
-    widths = {len(line.split(delimiter)) for line in lines}
-    return delimiter in DELIMITERS and min(widths) > 1 and len(widths) == 1
+    try:
+        widths = {len(fields) for fields in csv.reader(lines, delimiter=delimiter)}
+    except csv.Error:
+        return True  # the CSV reader names the line with the unpaired quote
+    return min(widths) > 1 and len(widths) == 1
 
 
 def read_link(url: str, options: IngestOptions = IngestOptions(), policy: FetchPolicy = FetchPolicy(),

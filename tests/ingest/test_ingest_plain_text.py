@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from app.errors import LimitExceeded, SeriesFormatError
-from app.ingest import IngestOptions
+from app.ingest import IngestOptions, read_upload
 from app.ingest.limits import ReadLimits
 from app.ingest.plain_text import read_plain_text
 from ingest_samples import wiggle
@@ -81,3 +81,17 @@ def test_no_header_and_too_many_lines_are_refused():
         read_plain_text("1990 1\n1991 2\n1992 3\n")
     with pytest.raises(LimitExceeded):
         read_plain_text("year value\n" + body(50), limits=ReadLimits(max_rows=20))
+
+
+def test_a_csv_under_titles_and_a_units_row_reads_through_the_upload_entry():
+    text = ("Invented agency: monthly river flow\nStation 12, provisional\n\nmonth,flow\n,m3/s\n" +
+            "".join(f"2001-{m:02d},{10 + wiggle(m)}\n" for m in range(1, 13)) + "\nNotes: invented\n")
+    table = read_upload(text.encode())
+    assert table.delimiter == "," and table.series.n == 12 and table.series.sampling == "monthly"
+    assert any("skipped row 5 of text between the header and the data" in r for r in table.reading)
+    assert any("ignored 1 row of notes" in r for r in table.reading)
+
+
+def test_a_plain_csv_still_takes_the_csv_reader():
+    text = "year,value\n" + "".join(f"{1990 + i},{wiggle(i)}\n" for i in range(12))
+    assert read_upload(text).delimiter == ","
