@@ -211,7 +211,7 @@ def checked_address(host: str, port: int, policy: FetchPolicy, resolve: Resolver
     """The address to connect to: the host itself when it is one, else its first resolved address, once every
     resolved address has passed ``refuse_address``."""
     try:
-        literal = ipaddress.ip_address(host.strip("[]"))
+        literal = ipaddress.ip_address(host.strip("[]").split("%")[0])  # a zone (fe80::1%eth0) names no host
     except ValueError:
         literal = None
     addresses = [literal] if literal is not None else [_parse(a, host) for a in resolve(host, port)]
@@ -234,14 +234,24 @@ def refuse_address(address: ipaddress._BaseAddress, host: str, policy: FetchPoli
     inner = address
     if isinstance(address, ipaddress.IPv6Address):
         inner = address.ipv4_mapped or address.sixtofour or (address.teredo or (None, None))[1] or address
-    for candidate in {address, inner}:
+    for candidate in dict.fromkeys((inner, address)):  # the embedded IPv4 address names the kind best
         if policy.allow_loopback and candidate.is_loopback:
             continue
-        if (not candidate.is_global or candidate.is_private or candidate.is_loopback or candidate.is_link_local
-                or candidate.is_multicast or candidate.is_reserved or candidate.is_unspecified):
-            raise InputError(f"the link's host {host!r} is at {address}, an address this service does not fetch "
-                             "from (private, loopback, link-local, multicast or reserved)", location=URL_FIELD,
-                             fix="Give a link to a public web site")
+        kind = address_kind(candidate)
+        if kind is not None:
+            raise InputError(f"the link's host {host!r} is at {address}, {kind} address, which this service does not "
+                             "fetch from", location=URL_FIELD, fix="Give a link to a public web site")
+
+
+def address_kind(address: ipaddress._BaseAddress) -> str | None:
+    """Why an address is not public ("a loopback", "a private", ...), or None for a public one."""
+    for kind, test in (("an unspecified", address.is_unspecified), ("a loopback", address.is_loopback),
+                       ("a link-local", address.is_link_local), ("a multicast", address.is_multicast),
+                       ("a private", address.is_private), ("a reserved", address.is_reserved),
+                       ("a non-public", not address.is_global)):
+        if test:
+            return kind
+    return None
 
 
 def sniff_content(body: bytes) -> str:

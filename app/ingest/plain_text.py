@@ -16,7 +16,7 @@ from collections import Counter
 from app.errors import Location
 from app.ingest.csv_table import DELIMITERS
 from app.ingest.decode import decode_text
-from app.ingest.grid import GridRow, locate_block, table_from_grid
+from app.ingest.grid import HEADER_SEARCH_ROWS, GridRow, locate_block, table_from_grid
 from app.ingest.limits import ReadLimits, refuse_bytes, refuse_rows
 from app.ingest.options import IngestOptions, check_options
 from app.ingest.tabular import ParsedTable, parsed_from_table
@@ -78,7 +78,7 @@ def _lines(text: str, limits: ReadLimits) -> list[tuple[int, str]]:
         if line.lstrip().startswith(COMMENT_MARKS):
             continue
         out.append((number, line.rstrip("\r\n").expandtabs(8)))
-        refuse_rows(len(out), limits, Location(row=number))
+        refuse_rows(len(out) - HEADER_SEARCH_ROWS, limits, Location(row=number))  # titles and notes come on top
     return out
 
 

@@ -135,7 +135,7 @@ LOCAL_REFUSALS = [
     ("/big-unannounced", LimitExceeded, "larger than 65,536 bytes"),
     ("/slow", InputError, "within 0.3 seconds"),
     ("/hop0", InputError, "redirects more than 3 times"),
-    ("/to-private", InputError, "10.0.0.8"),
+    ("/to-private", InputError, "10.0.0.8, a private address"),
     ("/page", InputError, "a web page"),
     ("/missing", InputError, "HTTP 404"),
 ]
@@ -151,20 +151,22 @@ def test_local_server_answers_that_are_refused(server, path, error, fragment):
 
 
 HOSTILE_URLS = [
-    ("https://127.0.0.1/", {}, "loopback"),
-    ("https://localhost/", {"localhost": ["127.0.0.1", "::1"]}, "loopback"),
-    ("https://[::1]/", {}, "loopback"),
-    ("https://10.1.2.3/", {}, "private"),
-    ("https://172.16.0.1/", {}, "private"),
-    ("https://192.168.1.1/", {}, "private"),
-    ("https://169.254.169.254/latest/meta-data/", {}, "link-local"),
+    ("https://127.0.0.1/", {}, "a loopback address"),
+    ("https://localhost/", {"localhost": ["127.0.0.1", "::1"]}, "a loopback address"),
+    ("https://[::1]/", {}, "a loopback address"),
+    ("https://10.1.2.3/", {}, "a private address"),
+    ("https://172.16.0.1/", {}, "a private address"),
+    ("https://192.168.1.1/", {}, "a private address"),
+    ("https://169.254.169.254/latest/meta-data/", {}, "a link-local address"),
     ("https://metadata.google.internal/computeMetadata/v1/", {"metadata.google.internal": ["169.254.169.254"]},
-     "link-local"),
-    ("https://mixed.example/", {"mixed.example": ["93.184.216.34", "10.0.0.1"]}, "private"),
-    ("https://0.0.0.0/", {}, "reserved"),
-    ("https://[::ffff:127.0.0.1]/", {}, "loopback"),
-    ("https://[fd00:ec2::254]/", {}, "private"),
-    ("https://224.0.0.1/", {}, "multicast"),
+     "a link-local address"),
+    ("https://mixed.example/", {"mixed.example": ["93.184.216.34", "10.0.0.1"]}, "a private address"),
+    ("https://0.0.0.0/", {}, "an unspecified address"),
+    ("https://[::ffff:127.0.0.1]/", {}, "a loopback address"),
+    ("https://[fd00:ec2::254]/", {}, "a private address"),
+    ("https://[fe80::1%25eth0]/", {}, "a link-local address"),
+    ("https://v6.example/", {"v6.example": ["::ffff:169.254.169.254"]}, "a link-local address"),
+    ("https://224.0.0.1/", {}, "a multicast address"),
     ("http://2130706433/", {}, "bare number"),
     ("https://0177.0.0.1/", {}, "bare number"),
     ("https://0x7f.1/", {}, "bare number"),
@@ -195,13 +197,26 @@ def test_an_https_link_redirecting_to_loopback_is_refused_at_the_second_hop():
         requests.append(request)
         return httpx.Response(302, headers={"Location": "https://127.0.0.1/admin"})
 
-    with pytest.raises(InputError, match="loopback"):
+    with pytest.raises(InputError, match="a loopback address"):
         fetch("https://data.agency.test/series.csv", FetchPolicy(),
               resolve=names({"data.agency.test": ["93.184.216.34"]}), transport=httpx.MockTransport(agency))
     # One request, to the checked address, named by Host header and TLS server name.
     assert len(requests) == 1
     assert requests[0].url.host == "93.184.216.34" and requests[0].headers["Host"] == "data.agency.test"
     assert requests[0].extensions["sni_hostname"] == "data.agency.test"
+
+
+def test_a_name_resolving_to_public_ipv6_is_connected_to_at_that_address():
+    requests: list[httpx.Request] = []
+
+    def agency(request: httpx.Request) -> httpx.Response:
+        requests.append(request)
+        return httpx.Response(200, headers={"Content-Type": "text/csv"}, content=CSV)
+
+    got = fetch("https://data.agency.test/series.csv", FetchPolicy(),
+                resolve=names({"data.agency.test": ["2001:4860:4860::8888"]}), transport=httpx.MockTransport(agency))
+    assert got.content == CSV and requests[0].url.host == "2001:4860:4860::8888"
+    assert requests[0].headers["Host"] == "data.agency.test"
 
 
 def test_the_default_policy_refuses_the_local_server(server):
