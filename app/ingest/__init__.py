@@ -2,9 +2,9 @@
 
 ``read_upload`` reads any of the file formats (told apart by content), ``read_link`` fetches one from a link first
 (``app.ingest.fetch``); a year-by-month table becomes one monthly series; ``seasonal_cycle`` and ``deseasonalise``
-find and remove a calendar-month cycle. Times become decimal years at the middle of their period (see ``app.ingest.times``); missing values and
-holes in the grid are listed on the Series; every rejection is an ``app.errors.InputError`` that says
-where the fault sits and what to do about it.
+find and remove a calendar-month cycle. Times become decimal years at the middle of their period (see
+``app.ingest.times``); missing values and holes in the grid are listed on the Series; every rejection is an
+``app.errors.InputError`` that says where the fault sits and what to do about it.
 """
 
 from app.ingest.csv_reader import ParsedTable, read_csv_text, series_from_csv

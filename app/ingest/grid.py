@@ -2,8 +2,9 @@
 
 Titles, merged title rows and notes above the table are skipped: the header is the first row with at least two
 filled cells, not all numbers, followed by a row holding at least two numbers or times (a row or two of units or
-sources may sit between them). The data block runs from there to the first blank row or row of text alone. Notes after it are ignored and said so; a second block of
-data after it is refused, since which of the two is the series would be a guess.
+sources may sit between them). The data block runs from there to the first blank row or row of text alone. Notes
+after it are ignored and said so; a second block of data after it is refused, since which of the two is the series
+would be a guess.
 """
 
 from __future__ import annotations
@@ -145,25 +146,26 @@ def table_from_grid(rows: Sequence[GridRow], *, kind: str, header_row: int | Non
         raise SeriesFormatError("the file is empty", location=Location(row=1),
                                 fix="Upload a table with a header row (e.g. year, value) and one row per time")
     block = locate_block(rows, header_row)
-    header, end = block.header, block.end
-    refuse_rows(end - block.first, limits, Location(row=rows[end - 1].number))
-    cells_in_header = list(rows[header].cells)
-    while cells_in_header and not cells_in_header[-1].strip():
-        cells_in_header.pop()
-    refuse_columns(len(cells_in_header), limits, Location(row=rows[header].number))
-    refuse_cells(len(cells_in_header) * (end - block.first), limits, Location(row=rows[end - 1].number))
-    names = column_names(cells_in_header, rows[header].number)
-    width = len(names)
-    data = [r for r in rows[block.first:end] if not is_blank(r)]
-    reading: list[str] = []
-    above = sum(1 for r in rows[:header] if not is_blank(r))
-    if above:
-        reading.append(f"skipped {above} row{'s' * (above != 1)} of titles or notes above the header "
-                       f"(row {rows[header].number})")
-    between = [r.number for r in rows[header + 1:block.first] if not is_blank(r)]
-    if between:
-        reading.append(f"skipped row{'s' * (len(between) != 1)} {', '.join(map(str, between))} of text between the "
-                       "header and the data (units or sources)")
+    header = rows[block.header]
+    last = Location(row=rows[block.end - 1].number)
+    refuse_rows(block.end - block.first, limits, last)
+    header_cells = header.cells[:_width(header)]
+    refuse_columns(len(header_cells), limits, Location(row=header.number))
+    refuse_cells(len(header_cells) * (block.end - block.first), limits, last)
+    names = column_names(list(header_cells), header.number)
+    data = [r for r in rows[block.first:block.end] if not is_blank(r)]
+    cells, cut_right = _fit_rows(data, len(names), ragged)
+    reading = _skipped(rows, block)
+    if cut_right:
+        reading.append(f"ignored cells right of the table's last column ({names[-1]}) on {cut_right} rows")
+    reading.extend(_after_block(rows, block.end))
+    table = RawTable(delimiter=kind, header_row=header.number, names=names, rows=tuple(r.number for r in data),
+                     cells=cells)
+    return FoundTable(table=table, reading=tuple(reading))
+
+
+def _fit_rows(data: list[GridRow], width: int, ragged: str) -> tuple[tuple[tuple[str, ...], ...], int]:
+    """Every data row as wide as the header, and how many rows had cells right of it cut off."""
     cut_right = 0
     fitted = []
     for row in data:
@@ -177,12 +179,21 @@ def table_from_grid(rows: Sequence[GridRow], *, kind: str, header_row: int | Non
             cut_right += any(c.strip() for c in cells[width:])
             cells = tuple(cells[:width]) + ("",) * (width - len(cells))
         fitted.append(tuple(cells))
-    if cut_right:
-        reading.append(f"ignored cells right of the table's last column ({names[-1]}) on {cut_right} rows")
-    reading.extend(_after_block(rows, end))
-    table = RawTable(delimiter=kind, header_row=rows[header].number, names=names,
-                     rows=tuple(r.number for r in data), cells=tuple(fitted))
-    return FoundTable(table=table, reading=tuple(reading))
+    return tuple(fitted), cut_right
+
+
+def _skipped(rows: Sequence[GridRow], block: Block) -> list[str]:
+    """What the preview says about the rows above the data that are not the header."""
+    reading = []
+    above = sum(1 for r in rows[:block.header] if not is_blank(r))
+    if above:
+        reading.append(f"skipped {above} row{'s' * (above != 1)} of titles or notes above the header "
+                       f"(row {rows[block.header].number})")
+    between = [r.number for r in rows[block.header + 1:block.first] if not is_blank(r)]
+    if between:
+        reading.append(f"skipped row{'s' * (len(between) != 1)} {', '.join(map(str, between))} of text between the "
+                       "header and the data (units or sources)")
+    return reading
 
 
 def _after_block(rows: Sequence[GridRow], end: int) -> list[str]:

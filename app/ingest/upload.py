@@ -1,4 +1,5 @@
-"""One entry for a file of any format this service reads (and one for a link to such a file): spreadsheet, CSV or plain text, told apart by content.
+"""One entry for a file of any format this service reads, spreadsheet, CSV or plain text, told apart by content;
+and one for a link to such a file.
 
 A file's name can lie, so the bytes decide: a zip or old Office file goes to the spreadsheet reader; text whose
 first lines split into the same number (more than one) of fields on a comma, semicolon or tab is CSV; any other
@@ -52,7 +53,8 @@ def _is_csv(text: str) -> bool:
 
 
 def read_link(url: str, options: IngestOptions = IngestOptions(), policy: FetchPolicy = FetchPolicy(),
-              limits: ReadLimits = ReadLimits(), *, resolve: Resolver = resolve_addresses) -> tuple[ParsedTable, Fetched]:
+              limits: ReadLimits = ReadLimits(), *,
+              resolve: Resolver = resolve_addresses) -> tuple[ParsedTable, Fetched]:
     """The table at a link, with where it came from in the series' notes, and the fetch's full provenance."""
     fetched = fetch(url, replace(policy, max_bytes=min(policy.max_bytes, limits.max_bytes)), resolve=resolve)
     table = read_upload(fetched.content, options, limits)
