@@ -7,8 +7,10 @@ comma, a point still reads as a decimal point; thousands separators are never re
 
 from __future__ import annotations
 
+from app.errors import Location
 from app.ingest.csv_table import read_table
 from app.ingest.decode import decode_text
+from app.ingest.limits import ReadLimits, refuse_cells, refuse_columns
 from app.ingest.options import IngestOptions, check_options
 from app.ingest.series import Series
 from app.ingest.tabular import PREVIEW_ROWS, ParsedTable, parsed_from_table
@@ -16,9 +18,13 @@ from app.ingest.tabular import PREVIEW_ROWS, ParsedTable, parsed_from_table
 __all__ = ["PREVIEW_ROWS", "ParsedTable", "read_csv_text", "series_from_csv"]
 
 
-def read_csv_text(text: str | bytes, options: IngestOptions = IngestOptions()) -> ParsedTable:
+def read_csv_text(text: str | bytes, options: IngestOptions = IngestOptions(),
+                  limits: ReadLimits | None = None) -> ParsedTable:
     check_options(options)
     table = read_table(decode_text(text), max_rows=options.max_points)
+    if limits is not None:
+        refuse_columns(len(table.names), limits, Location(row=table.header_row))
+        refuse_cells(len(table.names) * len(table.cells), limits, Location(row=table.header_row))
     return parsed_from_table(table, options, decimal_comma=options.decimal_comma or table.delimiter == ";")
 
 

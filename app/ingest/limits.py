@@ -19,7 +19,7 @@ class ReadLimits:
     max_rows: int = 200_000
     max_columns: int = 500
     max_cells: int = 2_000_000
-    max_bytes: int = 64 * 1024 * 1024
+    max_bytes: int = 32 * 1024 * 1024
     max_ratio: float = 200.0
     max_members: int = 2_000
 

@@ -31,7 +31,7 @@ def read_upload(data: bytes | str, options: IngestOptions = IngestOptions(),
         return read_spreadsheet(bytes(data), options, limits)
     text = decode_text(data)
     if options.header_row is None and _is_csv(text):
-        return read_csv_text(text, options)
+        return read_csv_text(text, options, limits)
     return read_plain_text(text, options, limits)
 
 

@@ -95,3 +95,9 @@ def test_a_csv_under_titles_and_a_units_row_reads_through_the_upload_entry():
 def test_a_plain_csv_still_takes_the_csv_reader():
     text = "year,value\n" + "".join(f"{1990 + i},{wiggle(i)}\n" for i in range(12))
     assert read_upload(text).delimiter == ","
+
+
+def test_a_csv_with_twenty_thousand_columns_is_refused_through_the_upload_entry():
+    text = "year," + ",".join(f"c{i}" for i in range(20_000)) + "\n" + "1990," + ",".join(["1"] * 20_000) + "\n"
+    with pytest.raises(LimitExceeded, match="20,001 columns"):
+        read_upload(text)

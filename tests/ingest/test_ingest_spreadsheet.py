@@ -101,7 +101,7 @@ def zip_bomb() -> bytes:
     out = io.BytesIO()
     with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as archive:
         archive.writestr("xl/workbook.xml", "<workbook/>")
-        archive.writestr("xl/worksheets/sheet1.xml", b"\0" * (40 * 1024 * 1024))
+        archive.writestr("xl/worksheets/sheet1.xml", b"\0" * (20 * 1024 * 1024))
     return out.getvalue()
 
 
