@@ -8,7 +8,6 @@ read as times. The value column is the one the caller names, else the first othe
 
 from __future__ import annotations
 
-import calendar
 import re
 from dataclasses import dataclass
 from typing import Sequence
@@ -24,7 +23,6 @@ TIME_NAMES = frozenset({"time", "date", "year", "month", "decimal year", "decima
                         "fractional year", "datetime", "date time", "yr", "yyyy", "period", "year month", "t"})
 YEAR_NAMES = frozenset({"year", "yr", "yyyy"})
 MONTH_NAMES = frozenset({"month", "mon", "mm"})
-MONTH_COLUMN_NAMES = frozenset(name.lower() for name in calendar.month_name[1:] + calendar.month_abbr[1:])
 TIME_WORDS = frozenset({"time", "date", "year", "yr", "month", "period"})
 _WHOLE_NUMBER = re.compile(r"\s*[+-]?\d+\s*")
 
@@ -62,23 +60,12 @@ def choose_columns(table: RawTable, options: IngestOptions, *, decimal_comma: bo
     taken = {time, month}
     numeric = tuple(i for i, cells in enumerate(columns) if i not in taken and _all_numbers(cells, decimal_comma))
     if value is None:
-        _refuse_wide_months(table)
         value = _find_value(columns, numeric, taken)
     if value is None:
         raise SeriesFormatError(f"no column besides {shown(table.names[time])} holds numbers",
                                 location=Location(row=table.header_row),
                                 fix="Add a column of values, or choose the value column by name")
     return ColumnChoice(time=time, month=month, value=value, numeric=numeric)
-
-
-def _refuse_wide_months(table: RawTable) -> None:
-    """One row per year with a column per month would otherwise quietly become a January-only series."""
-    months = [n for n in table.names if normal_name(n) in MONTH_COLUMN_NAMES]
-    if len({normal_name(n)[:3] for n in months}) == 12:
-        raise SeriesFormatError(f"the file has a column for each month ({months[0]} ... {months[-1]}) and no value "
-                                "column was chosen", location=Location(row=table.header_row),
-                                fix="Choose the value column by name (an annual-mean column, or one month), "
-                                    "or reshape the file to one row per month with a single value column")
 
 
 def _named(table: RawTable, name: str | None, role: str) -> int | None:

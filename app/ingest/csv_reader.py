@@ -7,91 +7,21 @@ comma, a point still reads as a decimal point; thousands separators are never re
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field, replace
-
-from app.errors import Location, SeriesFormatError
-from app.ingest.build import BuiltSeries, build_series, parse_value_column, series_on_axis
-from app.ingest.columns import ColumnChoice, choose_columns
-from app.ingest.csv_table import RawTable, read_table
+from app.errors import Location
+from app.ingest.csv_table import read_table
 from app.ingest.decode import decode_text
-from app.ingest.locations import CsvPlaces
-from app.ingest.numbers import is_missing
+from app.ingest.limits import ReadLimits, refuse_cells, refuse_columns
 from app.ingest.options import IngestOptions, check_options
-from app.ingest.series import Series
-from app.ingest.transform import annual_means
+from app.ingest.tabular import PREVIEW_ROWS, ParsedTable, parsed_from_table
 
-PREVIEW_ROWS = 5
-
-
-@dataclass(frozen=True)
-class ParsedTable:
-    """What the browser preview shows: the columns as read, the choices made, and the series that came out."""
-
-    columns: tuple[str, ...]
-    time_column: str
-    value_column: str
-    numeric_columns: tuple[str, ...]  # every column of numbers except the time, the value column included
-    head: tuple[tuple[str, ...], ...]  # the first data rows as written
-    tail: tuple[tuple[str, ...], ...]  # the last data rows as written, never repeating a row of ``head``
-    series: Series
-    extra_columns: dict[str, Series]  # the other numeric columns on the same times (no anomalies applied)
-    delimiter: str
-    n_rows: int
-    n_missing: int  # data rows with no value
-    month_column: str | None = None  # read together with ``time_column`` (a year) as year-months
-    missing_rows: tuple[int, ...] = ()  # file lines of the rows with no value
-    gaps: tuple[str, ...] = field(default=())  # grid periods with no row at all, e.g. "1999-03"
+__all__ = ["PREVIEW_ROWS", "ParsedTable", "read_csv_text"]
 
 
-def read_csv_text(text: str | bytes, options: IngestOptions = IngestOptions()) -> ParsedTable:
+def read_csv_text(text: str | bytes, options: IngestOptions = IngestOptions(),
+                  limits: ReadLimits | None = None) -> ParsedTable:
     check_options(options)
     table = read_table(decode_text(text), max_rows=options.max_points)
-    decimal_comma = options.decimal_comma or table.delimiter == ";"
-    choice = choose_columns(table, options, decimal_comma=decimal_comma)
-    names = table.names
-    places = CsvPlaces(rows=table.rows, time_column=names[choice.time], value_column=names[choice.value])
-    built = build_series(_time_cells(table, choice), [row[choice.value] for row in table.cells], places, options,
-                         label=options.label or names[choice.value], units=options.units, decimal_comma=decimal_comma)
-    extras = {names[i]: _extra_series(table, i, built, places, options, decimal_comma) for i in choice.numeric
-              if i != choice.value}
-    head = table.cells[:PREVIEW_ROWS]
-    tail = table.cells[max(PREVIEW_ROWS, len(table.cells) - PREVIEW_ROWS):]
-    return ParsedTable(
-        columns=names, time_column=names[choice.time], value_column=names[choice.value],
-        numeric_columns=tuple(names[i] for i in choice.numeric), head=head, tail=tail, series=built.series,
-        extra_columns=extras, delimiter=table.delimiter, n_rows=len(table.cells), n_missing=len(built.missing_indices),
-        month_column=names[choice.month] if choice.month is not None else None,
-        missing_rows=tuple(table.rows[i] for i in built.missing_indices), gaps=built.gap_labels)
-
-
-def _time_cells(table: RawTable, choice: ColumnChoice) -> list[str]:
-    if choice.month is None:
-        return [row[choice.time] for row in table.cells]
-    return [_year_month(table, index, choice) for index in range(len(table.cells))]
-
-
-def _year_month(table: RawTable, index: int, choice: ColumnChoice) -> str:
-    """A year cell and a month cell as one year-month label, 1998-03."""
-    row = table.cells[index]
-    numbers = []
-    for column, low, high, what in ((choice.time, 1, 9999, "year"), (choice.month, 1, 12, "month")):
-        text = row[column].strip()
-        where = Location(row=table.rows[index], column=table.names[column])
-        if is_missing(text):
-            raise SeriesFormatError(f"the {what} is missing", location=where, fix="Fill in the time, or delete the row")
-        number = int(text)  # the column was chosen because every cell is a whole number
-        if not low <= number <= high:
-            raise SeriesFormatError(f"{what} {number} is out of range {low}-{high}", location=where,
-                                    fix=f"Give the {what} as a number from {low} to {high}")
-        numbers.append(number)
-    return f"{numbers[0]:04d}-{numbers[1]:02d}"
-
-
-def _extra_series(table: RawTable, column: int, built: BuiltSeries, places: CsvPlaces, options: IngestOptions,
-                  decimal_comma: bool) -> Series:
-    """Another column of numbers on the series' times: its own missing values, the same annual means."""
-    name = table.names[column]
-    values = parse_value_column([row[column] for row in table.cells], replace(places, value_column=name),
-                                decimal_comma=decimal_comma, sentinels=options.missing_sentinels)
-    series = series_on_axis(built.axis, values, built.sampling, label=name, units="")
-    return annual_means(series, options.min_months_per_year) if options.annual_means else series
+    if limits is not None:
+        refuse_columns(len(table.names), limits, Location(row=table.header_row))
+        refuse_cells(len(table.names) * len(table.cells), limits, Location(row=table.header_row))
+    return parsed_from_table(table, options, decimal_comma=options.decimal_comma or table.delimiter == ";")

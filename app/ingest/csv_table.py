@@ -39,7 +39,7 @@ def read_table(text: str, *, max_rows: int) -> RawTable:
     delimiter = sniff_delimiter(lines)
     records = _records(text, delimiter)
     header_row, header = next(records, (1, []))
-    names = _column_names(header, header_row)
+    names = column_names(header, header_row)
     rows: list[int] = []
     cells: list[tuple[str, ...]] = []
     for row, fields in records:
@@ -111,7 +111,7 @@ def _records(text: str, delimiter: str) -> Iterator[tuple[int, list[str]]]:
         yield start, fields
 
 
-def _column_names(header: list[str], row: int) -> tuple[str, ...]:
+def column_names(header: list[str], row: int) -> tuple[str, ...]:
     names = [name.strip() for name in header]
     while names and not names[-1]:
         names.pop()  # a trailing separator on the header line adds no column

@@ -48,4 +48,26 @@ class FieldPlaces:
         return Location(field=f"{self.prefix}.time")
 
 
-Places = CsvPlaces | FieldPlaces
+@dataclass(frozen=True)
+class GridPlaces:
+    """Cells of a year-by-month table: point i came from row ``rows[i]``, column ``columns[i]``."""
+
+    rows: Sequence[int]
+    columns: Sequence[str]
+    time_column: str
+    value_columns: str  # the month columns as one name, "Jan ... Dec"
+
+    def time(self, index: int) -> Location:
+        return Location(row=self.rows[index], column=self.time_column)
+
+    def value(self, index: int) -> Location:
+        return Location(row=self.rows[index], column=self.columns[index])
+
+    def values(self) -> Location:
+        return Location(column=self.value_columns)
+
+    def times(self) -> Location:
+        return Location(column=self.time_column)
+
+
+Places = CsvPlaces | FieldPlaces | GridPlaces

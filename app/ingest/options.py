@@ -29,6 +29,8 @@ class IngestOptions:
     label: str = ""
     units: str = ""
     max_points: int = 200_000
+    sheet: str | None = None  # the spreadsheet sheet to read; by default the first that holds a table
+    header_row: int | None = None  # the 1-based row naming the columns in a sheet or text file; found by default
 
 
 def check_options(options: IngestOptions) -> None:
@@ -36,6 +38,9 @@ def check_options(options: IngestOptions) -> None:
     if not isinstance(options.max_points, int) or options.max_points < 1:
         raise ClaimError(f"max_points must be a positive whole number, not {options.max_points!r}",
                          location=Location(field="options.max_points"), fix="Give a limit of at least 1.")
+    if options.header_row is not None and (not isinstance(options.header_row, int) or options.header_row < 1):
+        raise ClaimError(f"header_row must be a row number from 1, not {options.header_row!r}",
+                         location=Location(field="options.header_row"), fix="Give the row that names the columns.")
     months = options.min_months_per_year
     if not isinstance(months, int) or isinstance(months, bool) or not 1 <= months <= 12:
         raise ClaimError(f"min_months_per_year must be a whole number from 1 to 12, not {months!r}",

@@ -48,9 +48,6 @@ CSV_CASES = [
                  {"row": 1}, id="no-value-column"),
     pytest.param("year,value,value\n1990,1,2\n", {}, SeriesFormatError, "two columns are named 'value'",
                  {"row": 1, "column": "value"}, id="duplicate-column-names"),
-    pytest.param("Year,Jan,Feb,Mar,Apr,May,Jun,Jul,Aug,Sep,Oct,Nov,Dec,J-D\n" +
-                 "".join(f"{1990 + i}," + ",".join(str(0.1 * m + i) for m in range(13)) + "\n" for i in range(10)),
-                 {}, SeriesFormatError, "a column for each month (Jan ... Dec)", {"row": 1}, id="one-column-per-month"),
     pytest.param("year,value\n", {}, SeriesContentError, "no data rows", {"row": 1}, id="header-only"),
     pytest.param(csv_with(3, value="abc"), {}, SeriesFormatError, "'abc' is not a number",
                  {"row": 5, "column": "value"}, id="non-numeric-value"),
