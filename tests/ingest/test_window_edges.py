@@ -8,7 +8,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from app.errors import ClaimError
-from app.ingest import series_from_csv
+from ingest_samples import series_from_csv
 from app.ingest.times import parse_time
 from app.ingest.window_edges import in_window, resolve_edge, window_points_summary
 from ingest_samples import csv_text, wiggle
