@@ -351,7 +351,7 @@ def decide(v: VerdictInputs) -> Verdict:
         headline = f"The trend {shown} around {v.start_label}, but the data do not show {_article(noun)} {noun}"
         summary = (f"{_capital(window_text)}, {_comparison(v)}. A change of slope at the window's boundaries is "
                    f"significant even allowing for the chosen window (adjusted {format_p(v.change_p_adjusted)}), "
-                   f"but what the window shows is not what was claimed: {_claim_requirement(v)}")
+                   f"but what the window shows is not what was claimed. {_claim_requirement(v)}")
     elif code == TOO_SHORT:
         need = (f"about {_years(v.years_to_detect)} years" if math.isfinite(v.years_to_detect)
                 else "a much longer record")
@@ -393,14 +393,16 @@ def _spell_sentence(v: VerdictInputs) -> str:
 
 
 def _claim_requirement(v: VerdictInputs) -> str:
+    """Why the window does not show the claimed kind, with the p-value each statement rests on."""
+    weaker, zero, stronger = (format_p(p) for p in (v.window_p_weaker, v.window_p_vs_zero, v.window_p_stronger))
     if v.kind == "pause":
         if not v.window_weaker:
-            return "the window's trend is not significantly flatter than the long-term one."
-        return "the window's trend is still significantly different from no trend at all."
+            return f"The window's trend is not significantly flatter than the long-term one ({weaker})."
+        return f"The window's trend still differs significantly from no trend at all ({zero})."
     if v.kind == "reversal":
-        return "the window's trend is not significantly of the opposite sign."
+        return f"The window's trend is not significantly of the opposite sign ({zero} against no trend)."
     if v.kind == "slowdown":
         if v.window_reversed:
-            return "the trend did more than slow: it significantly reversed."
-        return "the window's trend is not significantly slower than the long-term one."
-    return "the window's trend is not significantly faster than the long-term one."
+            return f"The trend did more than slow: it significantly reversed ({zero} against no trend)."
+        return f"The window's trend is not significantly flatter than the long-term one ({weaker})."
+    return f"The window's trend is not significantly steeper than the long-term one ({stronger})."

@@ -79,6 +79,9 @@ from app.stats.ols import (MIN_TREND_POINTS, TrendFit, TrendRows, check_fraction
 METHODS = ("white", "ar1", "ar2", "arma11", "gls_ar1", "hac")
 MODEL_METHODS = ("ar1", "ar2", "arma11")  # the methods that take a fitted noise model's own variance
 MIN_MODEL_DOF = 1.0  # the t distribution's floor: still a finite quantile (12.7 at 95%)
+# Fewer degrees of freedom than this and the t quantile (12.7 at one, 95%) makes a range wider than anything the
+# data could justify: the range and the p-value are then reported as undetermined rather than printed.
+MIN_RANGE_DOF = 2.0
 DEFAULT_METHOD = "ar1"
 
 
@@ -109,7 +112,7 @@ class SlopeRows:
 
     @property
     def half_width(self) -> np.ndarray:
-        bounded = np.isfinite(self.stderr) & (self.dof > 0)
+        bounded = np.isfinite(self.stderr) & (self.dof >= MIN_RANGE_DOF)
         q = stats.t.ppf(0.5 + self.confidence / 2.0, np.where(bounded, self.dof, 1.0))
         return np.where(bounded, q * np.where(bounded, self.stderr, 0.0), np.inf)
 
@@ -123,7 +126,7 @@ class SlopeRows:
 
     @property
     def p_value(self) -> np.ndarray:
-        bounded = np.isfinite(self.stderr) & (self.dof > 0) & (self.stderr > 0)
+        bounded = np.isfinite(self.stderr) & (self.dof >= MIN_RANGE_DOF) & (self.stderr > 0)
         t_stat = np.abs(self.slope) / np.where(bounded, self.stderr, 1.0)
         return np.where(bounded, 2.0 * stats.t.sf(t_stat, np.where(bounded, self.dof, 1.0)), 1.0)
 

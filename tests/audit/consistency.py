@@ -238,6 +238,8 @@ def check_sign_words(sentence: str, facts: Facts) -> list[str]:
     stronger = (facts.window_slope - facts.long_term_slope) * facts.trend_sign
     for word, sign in STRENGTH_WORDS.items():
         for m in re.finditer(rf"\b({NEGATION})?{word}\b", sentence, re.I):
+            if m.group(1) and "significantly" in m.group(1).lower():
+                continue  # "not significantly flatter" denies significance, not direction: the significance rule
             expected = -sign if m.group(1) else sign
             if expected * stronger <= 0:
                 found.append(f"\"{m.group(0)}\" but the window's slope {facts.window_slope:.4g} against the long-term "
@@ -361,6 +363,8 @@ def check_numeric_ranges(facts: Facts, window_written: bool = False) -> list[str
     if facts.window_points >= MIN_RANGE_POINTS and not window_written:
         checks.append(("window", facts.window_ci, facts.window_value_range, facts.window_years))
     for name, (low, high), spread, years in checks:
+        if not (np.isfinite(low) and np.isfinite(high)):
+            continue  # a range the data cannot bound is written as undetermined, never as numbers
         bound = _range_bound(spread, years)
         if (high - low) / 2 > bound:
             found.append(f"wide range: the {name} range {low:.4g} to {high:.4g} per year has half-width "

@@ -142,7 +142,6 @@ def _report(found: list[tuple[str, str]], audits: int, shown: int = 20) -> str:
 
 
 @pytest.mark.slow
-@pytest.mark.xfail(strict=False, reason="the engine's wording contradicts its numbers")  # engine wording fixed on main
 def test_simulated_audits_say_what_their_numbers_say():
     found, audits = [], 0
     with make_pool() as pool:
