@@ -174,13 +174,13 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
                                  options.min_segment_years, options.reference_start, options.reference_end)
     in_ref = (t >= reference.start) & (t <= reference.end)
     tr, yr = t[in_ref], y[in_ref]
-    if int((tr < claim.start).sum()) < MIN_POINTS_BEFORE_WINDOW:
+    window_in_ref = in_window[in_ref]
+    if int(np.argmax(window_in_ref)) < MIN_POINTS_BEFORE_WINDOW:
         raise ClaimError(f"the window starts {claim.start:g}, leaving fewer than {MIN_POINTS_BEFORE_WINDOW} points "
                          "before it in the reference period, so there is no earlier trend to compare with",
                          location=Location(field="claim.start"),
                          fix="Start the window later, or give a reference period that begins earlier")
     tw, yw = t[in_window], y[in_window]
-    window_in_ref = in_window[in_ref]
 
     # Noise comes from the residuals of the segmented fit, not of one straight line: over a record whose
     # rate changed, straight-line residuals carry the change itself and would pass for strongly red noise.
