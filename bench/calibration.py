@@ -288,23 +288,33 @@ def main(argv: list[str] | None = None) -> int:
           flush=True)
     started = time.perf_counter()
     results = []
+    command = "python -m bench.calibration " + " ".join(argv if argv is not None else sys.argv[1:])
+    out = args.out or (None if args.consistency else DEFAULT_OUT)
     with make_pool() as pool:
         for cell in cells:
             results.append(run_cell(pool, cell, series, simulations, args.seed, check=bool(args.consistency)))
             print(f"  {cell.name}: {results[-1].wall_seconds:.1f} s", flush=True)
+            if out is not None and not args.consistency and len(results) < len(cells):
+                # A long study keeps what it has: the table so far, marked as partial.
+                _write(out, results, cells, args, machine, mode, series, simulations, started, command)
+    text = _write(out, results, cells, args, machine, mode, series, simulations, started, command)
+    print(text)
+    return 0
+
+
+def _write(out, results, cells, args, machine, mode, series, simulations, started, command) -> str:
     wall = time.perf_counter() - started
-    command = "python -m bench.calibration " + " ".join(argv if argv is not None else sys.argv[1:])
     lines = header_lines(machine, mode, series, simulations, args.seed, wall, command.strip())
+    if len(results) < len(cells):
+        lines += [f"Partial: {len(results)} of {len(cells)} cells so far.", ""]
     lines += _print_consistency(results) if args.consistency else table(results)
     text = "\n".join(lines) + "\n"
-    print(text)
     if args.consistency and args.out:  # every contradiction, for reading through
         text += "\n" + "\n".join(f"- [{r.cell.name}] {c}" for r in results for o in r.outcomes
                                   for c in o.contradictions) + "\n"
-    out = args.out or (None if args.consistency else DEFAULT_OUT)
     if out is not None:
         out.write_text(text, encoding="utf-8")
-    return 0
+    return text
 
 
 if __name__ == "__main__":
