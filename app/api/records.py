@@ -15,6 +15,7 @@ from pydantic import BaseModel
 
 from app.api.deps import require_api_key
 from app.dependencies import get_runtime
+from app.service.claims import SEARCH_MAX_CHARS
 from app.service.records import RecordKind, delete_record, with_article, list_records, read_body, record_data_csv
 from app.service.runtime import Runtime
 from app.store.audits import MAX_PAGE_SIZE
@@ -41,8 +42,10 @@ def add_record_routes(router: APIRouter, resource: Resource) -> None:
                 dependencies=[Depends(require_api_key)], operation_id=f"list_{kind.kind}s")
     def list_(limit: int = Query(20, ge=1, le=MAX_PAGE_SIZE, description="Audits per page"),
               cursor: str | None = Query(None, description="next_cursor from the previous page", max_length=64),
+              q: str | None = Query(None, max_length=SEARCH_MAX_CHARS, description="Only records whose title or "
+                                    "claim (its words, claimant, outlet) holds these words, any case"),
               runtime: Runtime = Depends(get_runtime)) -> dict[str, Any]:
-        return list_records(runtime.audits, kind, runtime.settings, limit=limit, cursor=cursor)
+        return list_records(runtime.audits, kind, runtime.settings, limit=limit, cursor=cursor, q=q)
 
     @router.get(f"/{{{kind.id_name}}}", response_model=resource.out_model, response_model_exclude_none=False,
                 summary=f"Read one {noun} (no key needed: the id is the capability)", responses=not_found,
