@@ -162,15 +162,20 @@ def _claim_record(args: argparse.Namespace, settings):
                          "made_on": args.made_on, "source_url": args.claim_source_url}, settings.max_string_length)
 
 
-def _claim(args: argparse.Namespace, record, settings):
-    """The claim from the flags; edges and kind not given are read from --claim-text."""
+def _claim(args: argparse.Namespace, record, data: bytes, settings):
+    """The claim from the flags; edges and kind not given are read from --claim-text, counted in the series'
+    own periods."""
     from app.errors import ClaimError, Location
+    from app.ingest import IngestOptions, read_csv_text
     from app.service.claim_reading import read_claim_text
     from app.service.claims import ClaimInput
 
     start, end, kind = args.start, args.end, args.kind
     if (start is None or end is None or kind is None) and record.text:
-        parsed = read_claim_text(record.text, made_on=record.made_on, max_length=settings.max_string_length)
+        series = read_csv_text(data, IngestOptions(time_column=args.time_column, value_column=args.value_column,
+                                                   max_points=settings.max_points)).series
+        parsed = read_claim_text(record.text, made_on=record.made_on, span=(series.start, series.end),
+                                 sampling=series.sampling, max_length=settings.max_string_length)
         start, end, kind = start or parsed.start, end or parsed.end, kind or parsed.kind
     if start is None or end is None:
         raise ClaimError("the claimed window has no " + ("start" if start is None else "end"),
@@ -191,7 +196,7 @@ def audit(args: argparse.Namespace) -> int:
     try:
         options = audit_options({"confidence": args.confidence, "noise": args.noise, "rate_unit": args.rate_unit,
                                  "simulations": args.simulations, "seed": args.seed}, settings)
-        claim = _claim(args, _claim_record(args, settings), settings)
+        claim = _claim(args, _claim_record(args, settings), data, settings)
         job = job_from_csv(data, claim=claim, options=options,
                            settings=settings, title=args.title, time_column=args.time_column,
                            value_column=args.value_column, filename=args.file.name,

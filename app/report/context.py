@@ -181,7 +181,9 @@ def summary_text(doc: dict[str, Any], summary: str) -> str:
 
 def simulation_error(se: Any) -> str:
     """One short phrase for a simulated p-value's Monte Carlo error."""
-    return f"; simulation error ±{se:.1g}" if is_number(se) and se > 0 else ""
+    if not is_number(se) or se < 0:
+        return ""
+    return f"; simulation error ±{se:.1g}" if se > 0 else "; simulation error ±0 (every simulation agreed)"
 
 
 def _key_numbers(doc: dict[str, Any], rate: Rate, conf: str) -> tuple[KeyNumber, ...]:

@@ -67,8 +67,11 @@ def claim_time(value: float | int | str, field: str, role: str = "start") -> flo
     return edge_instant(value, role, field)
 
 
-def default_title(series: Series, claim: Claim) -> str:
-    return f"{series.label or 'Series'}: {claim.kind} claimed {claim.start:g} to {claim.end:g}"
+def default_title(series: Series, claim: Claim, window: dict[str, Any]) -> str:
+    """The series and the claim, its window named by the periods it holds (1998 to 2012)."""
+    first, last = window.get("first"), window.get("last")
+    span = f"{first} to {last}" if first else f"{claim.start:g} to {claim.end:g}"
+    return f"{series.label or 'Series'}: {claim.kind} claimed {span}"
 
 
 def prepare_job(*, title: str, series: Series, claim: ClaimInput, options: AuditOptions, source: dict[str, Any],
@@ -79,7 +82,8 @@ def prepare_job(*, title: str, series: Series, claim: ClaimInput, options: Audit
     check_window_in_series(series, resolved.start, resolved.end)
     check_work(series.n, options.simulations, settings.max_simulated_points)
     check_lag_cells(series, covariates, covariate_fields or [f"covariates[{i}].max_lag" for i in range(len(covariates))])
-    title = title.strip() or default_title(series, resolved)
+    window = window_echo(claim, resolved, series)
+    title = title.strip() or default_title(series, resolved, window)
     check_string_lengths({"title": title}, settings.max_string_length)
     covariate_payloads = [covariate_payload(c) for c in covariates]
     seed_from = "given" if options.seed is not None else "inputs"
@@ -101,7 +105,7 @@ def prepare_job(*, title: str, series: Series, claim: ClaimInput, options: Audit
     }
     return AuditJob(title=title, series=series, claim=resolved, options=options, input_document=document,
                     covariates=tuple(covariates), field_names=field_names, record=claim.record,
-                    window=window_echo(claim, resolved, series))
+                    window=window)
 
 
 def string_times(times: Sequence[Any], field: str) -> dict[str, str]:

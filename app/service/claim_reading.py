@@ -13,7 +13,7 @@ from typing import Any
 from app.ingest.claim_text import ParsedClaim, parse_claim
 from app.service.claims import claim_record, edge_instant
 
-# Which words set which field, in the order a desk names them.
+# Which words set which field, in order of precedence when their words overlap.
 MARKED_PARTS = ("kind", "start", "end", "window")
 NAMED_SAMPLINGS = ("monthly", "quarterly", "annual")  # others count relative windows in months
 
@@ -57,14 +57,18 @@ def parsed_answer(parsed: ParsedClaim) -> dict[str, Any]:
 
 
 def marked_pieces(text: str, parsed: ParsedClaim) -> tuple[Piece, ...]:
-    """The sentence cut where the words that set each part begin and end; overlapping spans keep the first."""
-    spans = sorted((span[0], span[1], part) for part, span in parsed.spans.items()
-                   if part in MARKED_PARTS and 0 <= span[0] < span[1] <= len(text))
+    """The sentence cut where the words that set each part begin and end. The words of one part win over the
+    whole window's ("1998" is the start inside "since 1998"); the window is marked only where no part is."""
+    chosen: list[tuple[int, int, str]] = []
+    for part in MARKED_PARTS:  # parts in order of precedence
+        span = parsed.spans.get(part)
+        if span is None or not 0 <= span[0] < span[1] <= len(text):
+            continue
+        if all(span[1] <= begin or span[0] >= end for begin, end, _ in chosen):
+            chosen.append((span[0], span[1], part))
     pieces: list[Piece] = []
     at = 0
-    for begin, end, part in spans:
-        if begin < at:
-            continue
+    for begin, end, part in sorted(chosen):
         if begin > at:
             pieces.append(Piece(text[at:begin], None))
         pieces.append(Piece(text[begin:end], part))
