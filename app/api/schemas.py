@@ -9,7 +9,7 @@ from __future__ import annotations
 import math
 from typing import Any, Literal
 
-from pydantic import BaseModel, ConfigDict, Field
+from pydantic import BaseModel, ConfigDict, Field, StrictFloat, StrictInt, StrictStr
 
 from app.audit.claim import NOISE_MODELS, RATE_UNITS
 from app.stats.adjust import LAG_RULES, MAX_COVARIATES
@@ -60,7 +60,8 @@ class SeriesIn(_Strict):
 CLAIM_TIME_HELP = ("any time form the series accepts: a whole year, quarter, month or date as the start begins at "
                    "its first instant and as the end includes all of it (1998 to 2012 holds 1998..2012); an integer "
                    "is a whole year, a number with a fraction (1998.25) an instant")
-Edge = int | float | str  # an integer stays an integer, so a whole year keeps its meaning
+# An integer stays an integer, so a whole year keeps its meaning; true and false are not times.
+Edge = StrictInt | StrictFloat | StrictStr
 
 
 class ClaimRecordIn(_Strict):
