@@ -27,6 +27,8 @@ from app.store.engine import write_options
 ID_BYTES = 18  # 144 bits, 24 URL-safe characters
 OWNER_TOKEN_BYTES = 32
 MAX_PAGE_SIZE = 100
+# Not a backslash, whose meaning in a string literal differs between databases and their settings.
+LIKE_ESCAPE = "!"
 AUDIT = "audit"
 CORRELATION = "correlation"
 KIND_NOUNS = {AUDIT: "audit", CORRELATION: "correlation audit"}
@@ -168,7 +170,7 @@ class AuditRepository:
         if kind is not None:
             query = query.where(t.c.kind == kind)
         if search:
-            query = query.where(t.c.search_text.like(f"%{_like_escaped(search.lower())}%", escape="\\"))
+            query = query.where(t.c.search_text.like(f"%{_like_escaped(search.lower())}%", escape=LIKE_ESCAPE))
         query = query.order_by(t.c.seq.desc()).limit(limit + 1)
         with self.engine.connect() as connection:
             rows = connection.execute(query).mappings().all()
@@ -201,7 +203,7 @@ class AuditRepository:
 
 def _like_escaped(text: str) -> str:
     """The text matched literally by LIKE: its wildcards and the escape character escaped."""
-    return text.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_")
+    return text.replace(LIKE_ESCAPE, LIKE_ESCAPE * 2).replace("%", LIKE_ESCAPE + "%").replace("_", LIKE_ESCAPE + "_")
 
 
 def _identified(audit_id: str, kind: str | None):

@@ -54,7 +54,7 @@ def test_the_history_lists_the_claim_and_searches_it(client):
     assert client.get("/api/v1/audits", params={"q": "invented province"}).json()["items"]  # the title too
 
 
-@pytest.mark.parametrize("q", ["%", "_", "\\", "' OR 1=1 --"])
+@pytest.mark.parametrize("q", ["%", "_", "!", "\\", "' OR 1=1 --"])
 def test_a_search_matches_its_characters_literally(client, q):
     assert client.post("/api/v1/audits", json=claimed(text="plain words")).status_code == 201
     assert client.get("/api/v1/audits", params={"q": q}).json()["items"] == []
@@ -167,3 +167,16 @@ def test_multipart_names_a_bad_claim_date_by_its_form_field(client):
     answer = client.post("/api/v1/audits", data=multipart(claim_made_on="yesterday"),
                          files={"file": ("s.csv", csv_text(), "text/csv")})
     assert_problem(answer, 422, "claim_made_on")
+
+
+def test_a_search_finds_wildcards_and_escapes_as_written(client):
+    for text in ("Up 50% since 2012", "a_b stalled", "Wow! Flat", "Back\\slash"):
+        assert client.post("/api/v1/audits", json=claimed(text=text)).status_code == 201
+    for q, text in (("50%", "Up 50% since 2012"), ("a_b", "a_b stalled"), ("wow!", "Wow! Flat"),
+                    ("k\\s", "Back\\slash")):
+        found = client.get("/api/v1/audits", params={"q": q}).json()["items"]
+        assert [item["summary"]["claim"]["text"] for item in found] == [text], q
+
+
+def test_a_repeated_search_is_refused(client):
+    assert_problem(client.get("/api/v1/audits?q=a&q=b"), 422, "q")
