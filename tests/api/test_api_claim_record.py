@@ -180,3 +180,11 @@ def test_a_search_finds_wildcards_and_escapes_as_written(client):
 
 def test_a_repeated_search_is_refused(client):
     assert_problem(client.get("/api/v1/audits?q=a&q=b"), 422, "q")
+
+
+def test_the_history_shows_a_long_claim_cut_to_our_limit(client):
+    text = "Warming has stopped since 1998, " + "and so on " * 40
+    created = client.post("/api/v1/audits", json=claimed(text=text))
+    assert created.json()["claim"]["text"] == text.strip()  # the record keeps every word
+    listed = client.get("/api/v1/audits").json()["items"][0]["summary"]["claim"]["text"]
+    assert len(listed) <= 200 and listed.endswith("…") and text.startswith(listed[:-1])
