@@ -58,3 +58,17 @@ def test_the_claim_reaches_the_report_and_the_history(client):
     assert "A. Columnist" in history and "Temperatures have not risen" in history
     assert "A. Columnist" in client.get("/history", params={"q": "invented weekly"}).text
     assert "A. Columnist" not in client.get("/history", params={"q": "nothing like it"}).text
+
+
+def test_a_driver_and_response_audit_keeps_the_claim_too(client):
+    table = "year,anomaly,co2\n" + "".join(f"{y},{0.015 * (y - 1950) + 0.12 * ((y * 7) % 5 - 2) / 2:.3f},"
+                                           f"{310 + 1.6 * (y - 1950):.1f}\n" for y in range(1950, 2025))
+    preview_page = client.post("/preview", data={"table": table, "check": "link", "claim_text": SENTENCE},
+                               files=NO_FILE)
+    assert 'name="claim_text"' in preview_page.text and "Temperatures have not risen" in preview_page.text
+    made = client.post("/correlate", files=NO_FILE, data={
+        "table": table, "check": "link", "time_column": "year", "value_column": "anomaly", "driver_column": "co2",
+        "claim_text": "CO2 rose while it cooled", "claim_claimant": "B. Writer", "simulations": "200"})
+    report = client.get(report_path(made)).text
+    assert "CO2 rose while it cooled" in report and "(B. Writer)" in report
+    assert "B. Writer" in client.get("/history", params={"q": "cooled"}).text
