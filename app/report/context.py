@@ -11,7 +11,6 @@ from datetime import datetime, timezone
 from typing import Any
 from urllib.parse import urlsplit
 
-from app.audit.verdict import ordinal
 from app.report.claim_context import ClaimView, claim_view, window_change_text, window_words
 from app.report.numbers import Rate, format_p, format_percent, format_probability, format_years, is_number, time_of
 from app.vocabulary import (ACCELERATION, CHANGE_SUPPORTED, CONSISTENT, CONTRADICTED, LEVEL_SHIFT, MODEL_DEPENDENT,
