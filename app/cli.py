@@ -16,7 +16,7 @@ from pathlib import Path
 from typing import Any, Sequence
 
 from app import __version__
-from app.audit.claim import NOISE_MODELS
+from app.audit.claim import NOISE_MODELS, RATE_UNITS
 from app.errors import InputError
 from app.stats.correlate import TRANSFORMS
 from app.vocabulary import CLAIM_KINDS
@@ -25,7 +25,10 @@ EXIT_INPUT_ERROR = 2  # the same code argparse uses for a bad command line
 log = logging.getLogger("trendaudit")
 # Errors name the request fields the API uses; on the command line they are these flags.
 FLAGS = {"options.simulations": "--simulations", "options.seed": "--seed", "options.noise": "--noise",
-         "options.confidence": "--confidence", "covariate_columns": "--covariates", "covariate_max_lag": "--max-lag",
+         "options.confidence": "--confidence", "options.rate_unit": "--rate-unit", "claim.start": "--start",
+         "claim.end": "--end", "claim.kind": "--kind", "claim.text": "--claim-text", "claim.claimant": "--claimant",
+         "claim.outlet": "--outlet", "claim.made_on": "--made-on", "claim.source_url": "--claim-source-url",
+         "text": "--claim-text", "covariate_columns": "--covariates", "covariate_max_lag": "--max-lag",
          "driver_column": "--driver", "response_column": "--response", "window_years": "--window-years",
          "transform": "--transform", "title": "--title"}
 
@@ -38,6 +41,12 @@ def _shared_options(command: argparse.ArgumentParser) -> None:
     command.add_argument("--confidence", type=float, help="confidence level (default 0.95)")
     command.add_argument("--title", default="", help="a name for the audit")
     command.add_argument("--json", action="store_true", help="print the full result document as JSON")
+    command.add_argument("--claim-text", help="the claim's words, as said or written; with no --start/--end, "
+                         "its kind and window are read from them")
+    command.add_argument("--claimant", help="who made the claim")
+    command.add_argument("--outlet", help="where the claim appeared")
+    command.add_argument("--made-on", help="when the claim was made, YYYY-MM-DD")
+    command.add_argument("--claim-source-url", help="where the claim can be read")
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -53,10 +62,13 @@ def _parser() -> argparse.ArgumentParser:
 
     audit = commands.add_parser("audit", help="audit a CSV file and print the result")
     audit.add_argument("file", type=Path, help="CSV with a time column and a value column")
-    audit.add_argument("--start", required=True, help="start of the claimed window: a decimal year (1998) or a "
-                       "month, quarter or date placed mid-period like the data (2016-01)")
-    audit.add_argument("--end", required=True, help="end of the claimed window, written like --start")
-    audit.add_argument("--kind", choices=CLAIM_KINDS, default="pause", help="what the claim says (default pause)")
+    audit.add_argument("--start", help="start of the claimed window, in any time form the data accept: a whole "
+                       "year, quarter or month (1998, 2016-Q1, 2016-01) begins at its first instant; a decimal year "
+                       "(1998.25) is an instant. Read from --claim-text when absent")
+    audit.add_argument("--end", help="end of the claimed window, written like --start; a whole period is included")
+    audit.add_argument("--kind", choices=CLAIM_KINDS, help="what the claim says (default: read from --claim-text, "
+                       "else pause)")
+    audit.add_argument("--rate-unit", choices=tuple(RATE_UNITS), help="how slopes are shown (default per decade)")
     audit.add_argument("--value-column", help="name of the value column (detected when absent)")
     audit.add_argument("--covariates", default="", help="other numeric columns to take out first, comma-separated "
                        "(an ENSO index, volcanic aerosol...); the adjusted series is audited too")
@@ -76,7 +88,10 @@ def _parser() -> argparse.ArgumentParser:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    args = _parser().parse_args(argv)
+    parser = _parser()
+    args = parser.parse_args(argv)
+    if args.command == "audit" and (args.start is None or args.end is None) and not args.claim_text:
+        parser.error("the audit needs --start and --end, or the claim's words in --claim-text")
     if args.command == "serve":
         return serve(args.host, args.port, args.workers)
     if args.command == "correlate":
@@ -140,9 +155,38 @@ def _print(title: str, document: dict[str, Any], as_json: bool, text) -> None:
         sys.stdout.write(text(title, document))
 
 
+def _claim_record(args: argparse.Namespace, settings):
+    from app.service.claims import claim_record
+
+    return claim_record({"text": args.claim_text, "claimant": args.claimant, "outlet": args.outlet,
+                         "made_on": args.made_on, "source_url": args.claim_source_url}, settings.max_string_length)
+
+
+def _claim(args: argparse.Namespace, record, data: bytes, settings):
+    """The claim from the flags; edges and kind not given are read from --claim-text, counted in the series'
+    own periods."""
+    from app.errors import ClaimError, Location
+    from app.ingest import IngestOptions, read_csv_text
+    from app.service.claim_reading import read_claim_text
+    from app.service.claims import ClaimInput
+
+    start, end, kind = args.start, args.end, args.kind
+    if (start is None or end is None or kind is None) and record.text:
+        series = read_csv_text(data, IngestOptions(time_column=args.time_column, value_column=args.value_column,
+                                                   max_points=settings.max_points)).series
+        parsed = read_claim_text(record.text, made_on=record.made_on, span=(series.start, series.end),
+                                 sampling=series.sampling, max_length=settings.max_string_length)
+        start, end, kind = start or parsed.start, end or parsed.end, kind or parsed.kind
+    if start is None or end is None:
+        raise ClaimError("the claimed window has no " + ("start" if start is None else "end"),
+                         location=Location(field="claim.start" if start is None else "claim.end"),
+                         fix="Give --start and --end, or the claim's words with --claim-text")
+    return ClaimInput(kind=kind or "pause", start=start, end=end, record=record)
+
+
 def audit(args: argparse.Namespace) -> int:
     from app.service.covariates import column_names
-    from app.service.audits import audit_options, compute_document, job_from_csv, make_claim
+    from app.service.audits import audit_options, compute_document, job_from_csv
     from app.settings import Settings
 
     settings = Settings()
@@ -150,9 +194,9 @@ def audit(args: argparse.Namespace) -> int:
     if data is None:
         return EXIT_INPUT_ERROR
     try:
-        options = audit_options({"confidence": args.confidence, "noise": args.noise,
+        options = audit_options({"confidence": args.confidence, "noise": args.noise, "rate_unit": args.rate_unit,
                                  "simulations": args.simulations, "seed": args.seed}, settings)
-        claim = make_claim(args.start, args.end, args.kind, prefix="--")
+        claim = _claim(args, _claim_record(args, settings), data, settings)
         job = job_from_csv(data, claim=claim, options=options,
                            settings=settings, title=args.title, time_column=args.time_column,
                            value_column=args.value_column, filename=args.file.name,
@@ -179,7 +223,8 @@ def correlate(args: argparse.Namespace) -> int:
                                        "simulations": args.simulations, "seed": args.seed}, settings)
         job = correlation_job_from_csv(data, driver_column=args.driver, response_column=args.response,
                                        options=options, settings=settings, title=args.title,
-                                       time_column=args.time_column, filename=args.file.name)
+                                       time_column=args.time_column, filename=args.file.name,
+                                       record=_claim_record(args, settings))
         document = compute_correlation_document(job)
     except InputError as error:
         return _refuse(args.file, error)
@@ -201,19 +246,28 @@ def summary_text(title: str, doc: dict[str, Any]) -> str:
             text += f" (range {lo} to {hi})"
         return text
 
+    from app.report.claim_context import window_change_text, window_words
+    from app.report.context import simulation_error
+
     v, ref, lt, win = doc["verdict"], doc["reference"], doc["long_term"], doc["window"]
     change, spell, detect = doc["trend_change"], doc["spell"], doc["detectability"]
+    claim = doc.get("claim") or {}
     breaks = ", ".join(f"{b:.1f}" for b in (doc.get("segments") or {}).get("breakpoints") or []) or "none found"
+    said_by = ", ".join(str(claim[k]) for k in ("claimant", "outlet", "made_on") if claim.get(k))
+    change_over = window_change_text(doc)
+    window_named = window_words(claim) or f"{win['start']:g} to {win['end']:g}"
     lines = [
         title, "",
+        *([f"The claim: \u201c{claim['text']}\u201d" + (f" ({said_by})" if said_by else "")] if claim.get("text") else []),
         f"Verdict: {v['headline']}  [{v['code']}]",
         *textwrap.wrap(v["summary"], 88), "",
         f"Long-term trend {ref['start']:.1f} to {ref['end']:.1f}: {r(lt['slope'], lt.get('ci'))}, {format_p(lt.get('p_value'))}",
-        f"Claimed window {win['start']:g} to {win['end']:g}: {r(win['slope'], win.get('ci'))}",
+        f"Claimed window {window_named}: {r(win['slope'], win.get('ci'))}" + (f", {change_over}" if change_over else ""),
         f"  window trend vs zero: {format_p(win.get('p_value_vs_zero'))}; "
         f"vs the long-term trend: {format_p(win.get('p_value_vs_long_term'))}",
         f"Change of slope at the window's ends: {format_p(change.get('p_value_nominal'))} as if the window were "
-        f"chosen blind, {format_p(change.get('p_value_adjusted'))} allowing for picking it",
+        f"chosen blind, {format_p(change.get('p_value_adjusted'))} allowing for picking it"
+        f"{simulation_error(change.get('p_value_adjusted_se'))}",
         f"Noise model: {(doc.get('noise') or {}).get('kind')} (chosen by the data unless set)",
         f"Chance of a spell at least this extreme somewhere in the record: {_share(spell.get('probability'))}",
         f"Years of data needed to detect the long-term trend: {_number(detect.get('years_to_detect'))}",

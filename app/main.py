@@ -8,7 +8,7 @@ from fastapi import FastAPI
 from fastapi.openapi.utils import get_openapi
 
 from app import __version__
-from app.api import audits, correlations, docs, samples, trend
+from app.api import audits, claims, correlations, docs, samples, trend
 from app.api.body_size import BodySizeLimit
 from app.api.openapi_problems import document_problems
 from app.api.problems import install_problem_handlers
@@ -63,7 +63,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     for router in desk_routers:  # the browser desk: HTML pages, their assets, chart downloads
         application.include_router(router)
     application.add_middleware(BodySizeLimit, max_bytes=settings.max_upload_bytes, html_refusal=too_large_page)
-    for router in (audits.router, correlations.router, samples.router, trend.router, docs.router):
+    for router in (audits.router, correlations.router, claims.router, samples.router, trend.router, docs.router):
         application.include_router(router)
     application.openapi = lambda: _openapi_with(application, HAND_READ_BODIES)
 

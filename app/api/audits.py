@@ -57,8 +57,9 @@ def _job_from_json_bytes(raw: bytes, settings: Settings) -> AuditJob:
 @router.post(
     "", status_code=201, summary="Audit a claim about a series, and store the audit",
     dependencies=[Depends(require_api_key)], openapi_extra={"requestBody": CREATE_BODY},
-    responses={201: {"model": AuditOut, "description": "Stored; Location points at the report page",
-                     "headers": {"Location": {"schema": {"type": "string"}, "description": "/audits/{id}"}}},
+    responses={201: {"model": AuditOut, "description": "Stored; Location points at the API resource",
+                     "headers": {"Location": {"schema": {"type": "string"},
+                                              "description": "/api/v1/audits/{id}"}}},
                413: {"description": "Body over the upload limit (refused before reading)"},
                415: {"description": "Neither JSON nor multipart/form-data"},
                422: {"description": "The series, claim or options cannot be used; 'where' says which"},
@@ -70,7 +71,7 @@ async def create_audit(request: Request, runtime: Runtime = Depends(get_runtime)
     job = await job_from_request(request, runtime.settings)
     record, owner_token, _document = await create_record(runtime, AUDITS, job)
     body = record_body(AUDITS, record, runtime.settings, owner_token=owner_token)
-    return JSONResponse(body, status_code=201, headers={"Location": body["report_url"]})
+    return JSONResponse(body, status_code=201, headers={"Location": body["url"]})
 
 
 add_record_routes(router, Resource(

@@ -30,8 +30,9 @@ def _job_from_json_bytes(raw: bytes, settings: Settings) -> CorrelationJob:
 @router.post(
     "", status_code=201, summary="Audit a driver-response correlation claim, and store the audit",
     dependencies=[Depends(require_api_key)], openapi_extra={"requestBody": CREATE_BODY},
-    responses={201: {"model": CorrelationOut, "description": "Stored; Location points at the report page",
-                     "headers": {"Location": {"schema": {"type": "string"}, "description": "/correlations/{id}"}}},
+    responses={201: {"model": CorrelationOut, "description": "Stored; Location points at the API resource",
+                     "headers": {"Location": {"schema": {"type": "string"},
+                                              "description": "/api/v1/correlations/{id}"}}},
                413: {"description": "Body over the upload limit (refused before reading)"},
                415: {"description": "Not JSON"},
                422: {"description": "A series, the window or the options cannot be used; 'where' says which"},
@@ -47,7 +48,7 @@ async def create_correlation(request: Request, runtime: Runtime = Depends(get_ru
     job = await run_in_threadpool(_job_from_json_bytes, await request.body(), runtime.settings)
     record, owner_token, _document = await create_record(runtime, CORRELATIONS, job)
     body = record_body(CORRELATIONS, record, runtime.settings, owner_token=owner_token)
-    return JSONResponse(body, status_code=201, headers={"Location": body["report_url"]})
+    return JSONResponse(body, status_code=201, headers={"Location": body["url"]})
 
 
 add_record_routes(router, Resource(

@@ -9,12 +9,14 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-from fastapi import APIRouter, Depends, Header, Path, Query
+from fastapi import APIRouter, Depends, Header, Path, Query, Request
 from fastapi.responses import JSONResponse, Response
 from pydantic import BaseModel
 
 from app.api.deps import require_api_key
 from app.dependencies import get_runtime
+from app.errors import InputError, Location
+from app.service.claims import SEARCH_MAX_CHARS
 from app.service.records import RecordKind, delete_record, with_article, list_records, read_body, record_data_csv
 from app.service.runtime import Runtime
 from app.store.audits import MAX_PAGE_SIZE
@@ -39,10 +41,13 @@ def add_record_routes(router: APIRouter, resource: Resource) -> None:
 
     @router.get("", response_model=resource.page_model, summary=f"List {noun}s, newest first",
                 dependencies=[Depends(require_api_key)], operation_id=f"list_{kind.kind}s")
-    def list_(limit: int = Query(20, ge=1, le=MAX_PAGE_SIZE, description="Audits per page"),
+    def list_(request: Request, limit: int = Query(20, ge=1, le=MAX_PAGE_SIZE, description="Audits per page"),
               cursor: str | None = Query(None, description="next_cursor from the previous page", max_length=64),
+              q: str | None = Query(None, max_length=SEARCH_MAX_CHARS, description="Only records whose title or "
+                                    "claim (its words, claimant, outlet) holds these words, any case"),
               runtime: Runtime = Depends(get_runtime)) -> dict[str, Any]:
-        return list_records(runtime.audits, kind, runtime.settings, limit=limit, cursor=cursor)
+        _one_search(request)
+        return list_records(runtime.audits, kind, runtime.settings, limit=limit, cursor=cursor, q=q)
 
     @router.get(f"/{{{kind.id_name}}}", response_model=resource.out_model, response_model_exclude_none=False,
                 summary=f"Read one {noun} (no key needed: the id is the capability)", responses=not_found,
@@ -67,6 +72,13 @@ def add_record_routes(router: APIRouter, resource: Resource) -> None:
     def data(record_id: str = record_id_param, runtime: Runtime = Depends(get_runtime)) -> Response:
         text, filename = record_data_csv(runtime.audits, kind, record_id)
         return csv_download(text, filename)
+
+
+def _one_search(request: Request) -> None:
+    """A search is one text: a repeated ``q`` would silently keep only its last copy."""
+    if len(request.query_params.getlist("q")) > 1:
+        raise InputError("the search 'q' is given more than once", location=Location(field="q"),
+                         fix="Send one 'q' holding every word to search for")
 
 
 def csv_download(text: str, filename: str) -> Response:

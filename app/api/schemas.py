@@ -9,7 +9,7 @@ from __future__ import annotations
 import math
 from typing import Any, Literal
 
-from pydantic import BaseModel, ConfigDict, Field
+from pydantic import BaseModel, ConfigDict, Field, StrictFloat, StrictInt, StrictStr
 
 from app.audit.claim import NOISE_MODELS, RATE_UNITS
 from app.stats.adjust import LAG_RULES, MAX_COVARIATES
@@ -57,13 +57,24 @@ class SeriesIn(_Strict):
     units: str | None = Field(default=None, description="Units of the values, e.g. '°C'")
 
 
-CLAIM_TIME_HELP = ("a number is a decimal year as written (1998 is 1998.0); a year-month, quarter or date string "
-                   "sits mid-period like the data ('2016-01' is mid-January 2016)")
+CLAIM_TIME_HELP = ("any time form the series accepts: a whole year, quarter, month or date as the start begins at "
+                   "its first instant and as the end includes all of it (1998 to 2012 holds 1998..2012); an integer "
+                   "is a whole year, a number with a fraction (1998.25) an instant")
+# An integer stays an integer, so a whole year keeps its meaning; true and false are not times.
+Edge = StrictInt | StrictFloat | StrictStr
 
 
-class ClaimIn(_Strict):
-    start: float | str = Field(description="Start of the claimed window: " + CLAIM_TIME_HELP)
-    end: float | str = Field(description="End of the claimed window: " + CLAIM_TIME_HELP)
+class ClaimRecordIn(_Strict):
+    text: str | None = Field(default=None, description="The claim's words, as said or written")
+    claimant: str | None = Field(default=None, description="Who made the claim")
+    outlet: str | None = Field(default=None, description="Where it appeared")
+    made_on: str | None = Field(default=None, description="When it was made, YYYY-MM-DD")
+    source_url: str | None = Field(default=None, description="Where it can be read")
+
+
+class ClaimIn(ClaimRecordIn):
+    start: Edge = Field(description="Start of the claimed window: " + CLAIM_TIME_HELP)
+    end: Edge = Field(description="End of the claimed window: " + CLAIM_TIME_HELP)
     kind: ClaimKind = Field(default="pause", description="What the claim says happened in the window")
 
 
@@ -72,8 +83,9 @@ class OptionsIn(_Strict):
     noise: AuditNoise | None = Field(default=None, description="Noise model for ranges and simulations")
     simulations: int | None = Field(default=None, description="Monte Carlo simulations per test")
     seed: int | None = Field(default=None, description="Seed; the audit draws and records one when absent")
-    reference_start: float | None = Field(default=None, description="Start of the long-term reference period")
-    reference_end: float | None = Field(default=None, description="End of the long-term reference period")
+    reference_start: Edge | None = Field(default=None, description="Start of the long-term reference period, "
+                                                                     "written like a window edge")
+    reference_end: Edge | None = Field(default=None, description="End of the long-term reference period")
     rate_unit: RateUnit | None = Field(default=None, description="How slopes are worded for readers")
 
 
@@ -120,7 +132,9 @@ class AuditRequest(_Strict):
         "title": "Has the (invented) province stopped warming since 1998?",
         "series": {"time": EXAMPLE_YEARS, "value": EXAMPLE_VALUES, "label": "Annual temperature anomaly",
                    "units": "°C"},
-        "claim": {"start": 1998, "end": 2013, "kind": "pause"},
+        "claim": {"start": 1998, "end": 2012, "kind": "pause",
+                  "text": "The province has not warmed since 1998", "claimant": "An invented columnist",
+                  "outlet": "An invented weekly", "made_on": "2013-03-01"},
         "options": {"confidence": 0.95, "noise": "ar1", "simulations": 2000, "seed": 12345},
         "source": {"name": "Invented demo data", "notes": "Worked example for the API documentation"},
     }, {
@@ -142,14 +156,21 @@ class MultipartAuditForm(BaseModel):
     claim_start: str = Field(description="Start of the claimed window: " + CLAIM_TIME_HELP)
     claim_end: str = Field(description="End of the claimed window: " + CLAIM_TIME_HELP)
     claim_kind: ClaimKind = "pause"
+    claim_text: str | None = Field(default=None, description="The claim's words, as said or written")
+    claim_claimant: str | None = Field(default=None, description="Who made the claim")
+    claim_outlet: str | None = Field(default=None, description="Where it appeared")
+    claim_made_on: str | None = Field(default=None, description="When it was made, YYYY-MM-DD")
+    claim_source_url: str | None = Field(default=None, description="Where the claim can be read")
+    label: str | None = Field(default=None, description="What the series measures (the column name when absent)")
+    units: str | None = Field(default=None, description="Units of the values")
     time_column: str | None = Field(default=None, description="Detected when absent")
     value_column: str | None = Field(default=None, description="Detected when absent")
     confidence: float | None = None
     noise: AuditNoise | None = None
     simulations: int | None = None
     seed: int | None = None
-    reference_start: float | None = None
-    reference_end: float | None = None
+    reference_start: str | None = Field(default=None, description="Written like a window edge")
+    reference_end: str | None = None
     rate_unit: RateUnit | None = None
     decimal_comma: bool | None = None
     missing_sentinels: str | None = Field(default=None, description="Comma-separated, e.g. '-999,-99.99'")
@@ -170,6 +191,13 @@ class VerdictOut(BaseModel):
     summary: str
 
 
+class LinksOut(BaseModel):
+    self: str = Field(description="The API resource")
+    report: str = Field(description="The report page")
+    data_csv: str = Field(description="The data as audited, as CSV")
+    charts: dict[str, str] = Field(description="Each chart of the report, as SVG, by name")
+
+
 class AuditOut(BaseModel):
     """The stored audit: the result document plus where it lives. Only a create answer holds owner_token."""
 
@@ -179,6 +207,7 @@ class AuditOut(BaseModel):
     created_at: str = Field(description="UTC, ISO 8601")
     report_url: str
     data_url: str
+    links: LinksOut = Field(description="Absolute when TRENDAUDIT_PUBLIC_BASE_URL is set, else paths")
     owner_token: str | None = Field(default=None, description="Shown once, on creation: keep it to delete the audit")
     verdict: VerdictOut
     reference: dict[str, Any]
@@ -218,8 +247,8 @@ class CorrelationPage(AuditPage):
 
 class TrendRequest(_Strict):
     series: SeriesIn
-    start: float | None = Field(default=None, description="First time of the window (decimal year)")
-    end: float | None = Field(default=None, description="Last time of the window (decimal year)")
+    start: Edge | None = Field(default=None, description="Start of the window: " + CLAIM_TIME_HELP)
+    end: Edge | None = Field(default=None, description="End of the window, written like the start")
     noise: TrendMethod = Field(default="ar1", description="Noise model behind 'ci' and 'p_value'")
     confidence: float = Field(default=0.95, gt=0.5, lt=1.0)
     covariates: list[CovariateIn] = Field(default_factory=list, description=COVARIATES_HELP + " Fitted over the "
@@ -291,6 +320,8 @@ class TrendOut(BaseModel):
     years_to_detect: float | None = Field(description="Record length needed to detect this slope in this noise")
     start: float
     end: float
+    window: dict[str, Any] | None = Field(default=None, description="The edges as given and as resolved, the "
+                                          "first and last period inside and the number of points")
     units: str = "per year"
     methods: list[MethodOut]
     mann_kendall: MannKendallOut
@@ -313,6 +344,7 @@ class CorrelationRequest(_Strict):
                                  "(slope per doubling), 'cumulative' (a running total, e.g. of emissions)")
     options: CorrelationOptionsIn = Field(default_factory=CorrelationOptionsIn)
     source: SourceIn = Field(default_factory=SourceIn)
+    claim: ClaimRecordIn | None = Field(default=None, description="The claim the audit answers")
 
     model_config = ConfigDict(extra="forbid", json_schema_extra={"examples": [{
         "title": "The (invented) province warmed while its CO2 rose: do weak 15-year windows break the link?",
@@ -336,6 +368,7 @@ class CorrelationOut(BaseModel):
     url: str
     report_url: str
     data_url: str
+    links: LinksOut
     owner_token: str | None = Field(default=None, description="Shown once, on creation: keep it to delete the audit")
     verdict: VerdictOut
     r_levels: float | None = Field(description="Correlation of the levels over the shared times")
@@ -350,3 +383,42 @@ class CorrelationOut(BaseModel):
     inputs: dict[str, Any]
     software_version: str
     seed: int
+
+
+class ClaimSeriesIn(_Strict):
+    start: Edge = Field(description="First time of the series the claim is about")
+    end: Edge = Field(description="Last time of the series")
+    sampling: Literal["monthly", "quarterly", "annual", "irregular"] | None = None
+
+
+class ClaimParseRequest(_Strict):
+    text: str = Field(description="The claim's sentence, as said or written")
+    made_on: str | None = Field(default=None, description="When it was said, YYYY-MM-DD: 'for 15 years' counts "
+                                                          "back from it")
+    series: ClaimSeriesIn | None = Field(default=None, description="The series' span and sampling, for claims "
+                                                                   "that run to the end of the record")
+
+    model_config = ConfigDict(extra="forbid", json_schema_extra={"examples": [{
+        "text": "Temperatures have not risen for the past eighteen years", "made_on": "2015-06-01"}]})
+
+
+class ReadingOut(BaseModel):
+    kind: str
+    start: str
+    end: str
+    why: str
+
+
+class ClaimParseOut(BaseModel):
+    kind: str
+    start: str = Field(description="The window's start, written as a series writes times")
+    end: str
+    start_instant: float = Field(description="What the start resolves to (decimal year)")
+    end_instant: float
+    spans: dict[str, list[int]] = Field(description="Character spans [from, to) of the words each part was read "
+                                                    "from: kind, start, end, window")
+    confidence: float
+    alternatives: list[ReadingOut]
+    negated: bool = Field(description="The sentence denies the claim rather than making it")
+    negation_span: list[int] | None
+    notes: list[str]

@@ -7,6 +7,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from app.errors import ClaimError, Location
+from app.ingest.window_edges import in_window
 from app.stats.noise import CHOSEN_BY_DATA, NOISE_CHOICES
 from app.vocabulary import CLAIM_KINDS
 
@@ -95,11 +96,6 @@ def check_options(options: AuditOptions, max_simulations: int, field: str = "opt
 
 
 def window_mask(series, start: float, end: float) -> np.ndarray:
-    """Points whose sampling period overlaps [start, end].
-
-    Times sit mid-period, so "1998 to 2012" on annual data must take 1998.5 and 2012.5: a point belongs
-    to the window when its period [t - step/2, t + step/2) meets the claimed interval.
-    """
-    half = series.step / 2.0
-    eps = 1e-9
-    return (series.time - half <= end + eps) & (series.time + half > start + eps)
+    """Points the window [start, end) holds: those whose mid-period time lies inside
+    (``app.ingest.window_edges.in_window``, the one rule every door shares)."""
+    return in_window(series.time, start, end)

@@ -23,6 +23,7 @@ from matplotlib.ticker import PercentFormatter
 
 from app.report import palette
 from app.report.figures import lay_out, new_figure, styled
+from app.audit.verdict import ordinal
 from app.report.numbers import Rate, format_percent, format_probability, format_years, is_number, time_of
 
 MAX_CELL_TICKS = 7
@@ -263,7 +264,7 @@ def _sensitivity_description(doc: dict[str, Any]) -> str:
             f"{time_of(doc, starts[-1])} and ending between {time_of(doc, ends[0])} and {time_of(doc, ends[-1])}. "
             f"Trends range from {rate.text(low)} to {rate.text(high)}; colours are centred on the long-term trend "
             f"of {rate.text(doc['long_term'].get('slope'))}. The claimed window ({rate.text(cherry.get('claimed_slope'))}) "
-            f"is outlined" + (f" and ranks at the {rank:.0f}th percentile of its neighbours, 0 being the flattest."
+            f"is outlined" + (f" and ranks at the {ordinal(round(rank))} percentile of its neighbours, 0 being the flattest."
                               if is_number(rank) else "."))
 
 

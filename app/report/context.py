@@ -11,6 +11,7 @@ from datetime import datetime, timezone
 from typing import Any
 from urllib.parse import urlsplit
 
+from app.report.claim_context import ClaimView, claim_view, window_change_text, window_words
 from app.report.numbers import Rate, format_p, format_percent, format_probability, format_years, is_number, time_of
 from app.vocabulary import (ACCELERATION, CHANGE_SUPPORTED, CONSISTENT, CONTRADICTED, LEVEL_SHIFT, MODEL_DEPENDENT,
                             NO_TREND, OTHER_CHANGE, PAUSE, REVERSAL, SLOWDOWN, TOO_SHORT)
@@ -100,6 +101,7 @@ class Links:
 class ReportContext:
     id: str
     title: str
+    claim: ClaimView | None  # the claim as said, when its words or who said it were given
     claim_text: str
     verdict_code: str
     verdict_label: str
@@ -164,7 +166,23 @@ def created_text(created_at: Any) -> str:
 def claim_text(doc: dict[str, Any]) -> str:
     claim = doc.get("claim") or {}
     what = CLAIM_WORDS.get(claim.get("kind"), str(claim.get("kind", "a change")))
-    return f"{what[0].upper()}{what[1:]} from {time_of(doc, claim.get('start'))} to {time_of(doc, claim.get('end'))}"
+    window = window_words(claim) or f"{time_of(doc, claim.get('start'))} to {time_of(doc, claim.get('end'))}"
+    return f"{what[0].upper()}{what[1:]} from {window}"
+
+
+def summary_text(doc: dict[str, Any], summary: str) -> str:
+    """The verdict's summary, then the change over the window in the series' own units."""
+    change = window_change_text(doc)
+    if not change:
+        return summary
+    return f"{summary} Over the claimed window the series' own trend amounts to {change}.".strip()
+
+
+def simulation_error(se: Any) -> str:
+    """One short phrase for a simulated p-value's Monte Carlo error."""
+    if not is_number(se) or se < 0:
+        return ""
+    return f"; simulation error ±{se:.1g}" if se > 0 else "; simulation error ±0 (every simulation agreed)"
 
 
 def _key_numbers(doc: dict[str, Any], rate: Rate, conf: str) -> tuple[KeyNumber, ...]:
@@ -178,7 +196,8 @@ def _key_numbers(doc: dict[str, Any], rate: Rate, conf: str) -> tuple[KeyNumber,
                   f"{conf} range {rate.range_text(win.get('ci'))}; {win.get('n')} data points"),
         KeyNumber("Evidence of a change during the claimed window", format_p(change.get("p_value_adjusted")),
                   f"allowing for the choice of both ends ({format_p(change.get('p_value_nominal'))} "
-                  "if the window had been fixed in advance); small values mean evidence of a change"),
+                  "if the window had been fixed in advance); small values mean evidence of a change"
+                  + simulation_error(change.get("p_value_adjusted_se"))),
         KeyNumber("Chance of a spell like this anywhere in the record", format_probability(spell.get("probability")),
                   "if the long-term trend simply continued with this series' natural variability"),
         KeyNumber("Years of data needed to detect the trend", format_years(detect.get("years_to_detect")),
@@ -292,11 +311,12 @@ def report_context(*, audit_id: str, title: str, created_at: Any, document: dict
     return ReportContext(
         id=audit_id,
         title=title,
+        claim=claim_view(doc, safe_href),
         claim_text=claim_text(doc),
         verdict_code=code,
         verdict_label=VERDICT_LABELS.get(code, code),
         headline=verdict.get("headline", ""),
-        summary=verdict.get("summary", ""),
+        summary=summary_text(doc, verdict.get("summary", "")),
         reasons=tuple(verdict.get("reasons") or ()),
         what_would_change=tuple(verdict.get("what_would_change") or ()),
         key_numbers=_key_numbers(doc, rate, conf),

@@ -10,7 +10,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-from app.report.context import NOISE_WORDS, KeyNumber, Links, ProvenanceRow, SourceView, created_text, source_view_of
+from app.report.claim_context import ClaimView, claim_view
+from app.report.context import (NOISE_WORDS, KeyNumber, Links, ProvenanceRow, SourceView, created_text, safe_href,
+                                source_view_of)
 from app.report.numbers import format_percent, format_time, is_number, shared_decimals
 from app.vocabulary import NO_CLEAR_LINK, WEAK_WINDOWS_EXPECTED, WEAK_WINDOWS_UNUSUAL, WINDOWS_AGREE
 
@@ -32,6 +34,7 @@ STEP_WORDS = {"annual": "year-to-year", "quarterly": "quarter-to-quarter", "mont
 class CorrelationContext:
     id: str
     title: str
+    claim: ClaimView | None  # the claim the audit answers, as said
     driver: str
     response: str
     verdict_code: str
@@ -207,7 +210,7 @@ def correlation_context(*, record_id: str, title: str, created_at: Any, document
     created = created_text(created_at)
     base = base_url.rstrip("/")
     return CorrelationContext(
-        id=record_id, title=title, driver=_name(doc, "driver"), response=_name(doc, "response"),
+        id=record_id, title=title, claim=claim_view(doc, safe_href), driver=_name(doc, "driver"), response=_name(doc, "response"),
         verdict_code=code, verdict_label=CORRELATION_VERDICT_LABELS.get(code, code),
         headline=str(verdict.get("headline", "")), summary=str(verdict.get("summary", "")),
         reasons=tuple(verdict.get("reasons") or ()), warnings=tuple(doc.get("warnings") or ()),

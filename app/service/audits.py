@@ -17,11 +17,10 @@ from typing import Any, Sequence
 from app import __version__
 from app.audit import AuditOptions, Claim, audit_document, run_audit
 from app.audit.claim import check_claim, check_options
-from app.errors import ClaimError, InputError, Location
+from app.errors import InputError
 from app.ingest import IngestOptions, Series, check_window_in_series, read_csv_text, series_from_json
-from app.ingest.cells import CellError
-from app.ingest.numbers import normalise
-from app.ingest.times import parse_time
+from app.service.claims import (ClaimInput, ClaimRecord, claim_record, derived_seed, edge_instant, listed_claim,
+                                 resolved_claim, search_text, window_echo)
 from app.service.covariates import (FORM_COVARIATE_FIELDS, CovariateSeries, check_lag_cells, covariate_payload,
                                     covariates_from_json, covariates_from_table)
 from app.service.limits import check_string_lengths, check_work
@@ -38,6 +37,8 @@ class AuditJob:
     options: AuditOptions
     input_document: dict[str, Any]  # everything needed to run the same audit again
     covariates: tuple[CovariateSeries, ...] = ()
+    record: ClaimRecord = ClaimRecord()  # who claimed it, where and when
+    window: dict[str, Any] = dataclasses.field(default_factory=dict)  # the edges as given and as resolved
     # (pattern, field): errors the computation raises about a field matching the pattern name this field instead
     field_names: tuple[tuple[str, str], ...] = ()
 
@@ -49,57 +50,62 @@ def with_defaults(values: dict[str, Any], settings: Settings) -> dict[str, Any]:
             "simulations": settings.default_simulations, **given}
 
 
-def audit_options(values: dict[str, Any], settings: Settings) -> AuditOptions:
-    """Options from the request, with the service's defaults for what was left out; checked."""
+def audit_options(values: dict[str, Any], settings: Settings, prefix: str = "options.") -> AuditOptions:
+    """Options from the request, with the service's defaults for what was left out; checked. The reference
+    period's edges mean what a window's edges mean."""
+    values = {**values, **{f"reference_{role}": claim_time(values[f"reference_{role}"],
+                                                           f"{prefix}reference_{role}", role)
+                           for role in ("start", "end") if values.get(f"reference_{role}") is not None}}
     options = AuditOptions(**with_defaults(values, settings))
     check_options(options, settings.max_simulations)
     return options
 
 
-def claim_time(value: float | int | str, field: str) -> float:
-    """A claimed window edge: numbers are decimal years as written; a year-month, quarter or date string
-    is placed mid-period exactly as the same text in the data would be."""
-    if isinstance(value, str):
-        text = normalise(value)
-        try:
-            return float(text)
-        except ValueError:
-            pass
-        try:
-            return parse_time(text).decimal_year
-        except CellError as error:
-            raise ClaimError(error.message, location=Location(field=field), fix=error.fix) from None
-    return float(value)
+def claim_time(value: float | int | str, field: str, role: str = "start") -> float:
+    """A window edge as the instant it stands for (``app.ingest.window_edges``): a whole year, quarter, month or
+    day begins at its first instant as a start and includes all of it as an end; a decimal year is an instant."""
+    return edge_instant(value, role, field)
 
 
-def make_claim(start: float | int | str, end: float | int | str, kind: str, prefix: str = "claim.") -> Claim:
-    return Claim(start=claim_time(start, f"{prefix}start"), end=claim_time(end, f"{prefix}end"), kind=kind)
+def default_title(series: Series, claim: Claim, window: dict[str, Any]) -> str:
+    """The series and the claim, its window named by the periods it holds (1998 to 2012)."""
+    first, last = window.get("first"), window.get("last")
+    span = f"{first} to {last}" if first else f"{claim.start:g} to {claim.end:g}"
+    return f"{series.label or 'Series'}: {claim.kind} claimed {span}"
 
 
-def default_title(series: Series, claim: Claim) -> str:
-    return f"{series.label or 'Series'}: {claim.kind} claimed {claim.start:g} to {claim.end:g}"
-
-
-def prepare_job(*, title: str, series: Series, claim: Claim, options: AuditOptions, source: dict[str, Any],
+def prepare_job(*, title: str, series: Series, claim: ClaimInput, options: AuditOptions, source: dict[str, Any],
                 ingest: dict[str, Any], settings: Settings, covariates: Sequence[CovariateSeries] = (),
                 covariate_fields: Sequence[str] = (), field_names: tuple[tuple[str, str], ...] = ()) -> AuditJob:
-    check_claim(claim)
-    check_window_in_series(series, claim.start, claim.end)
+    resolved = resolved_claim(claim, series)
+    check_claim(resolved)
+    check_window_in_series(series, resolved.start, resolved.end)
     check_work(series.n, options.simulations, settings.max_simulated_points)
     check_lag_cells(series, covariates, covariate_fields or [f"covariates[{i}].max_lag" for i in range(len(covariates))])
-    title = title.strip() or default_title(series, claim)
+    window = window_echo(claim, resolved, series)
+    title = title.strip() or default_title(series, resolved, window)
     check_string_lengths({"title": title}, settings.max_string_length)
+    covariate_payloads = [covariate_payload(c) for c in covariates]
+    seed_from = "given" if options.seed is not None else "inputs"
+    if options.seed is None:
+        options = dataclasses.replace(options, seed=derived_seed(
+            series.sha256(), resolved.kind, resolved.start, resolved.end,
+            {k: v for k, v in dataclasses.asdict(options).items() if k != "seed"}, covariate_payloads))
     document = {
         "format": ingest.get("format"),
         "series": series_payload(series),
-        "claim": dataclasses.asdict(claim),
+        # start and end as audited (instants), beside the edges as given and who claimed it, where and when
+        "claim": {**dataclasses.asdict(resolved), "start_given": claim.start, "end_given": claim.end,
+                  **claim.record.as_dict()},
         "options": dataclasses.asdict(options),
-        "covariates": [covariate_payload(c) for c in covariates],
+        "seed_from": seed_from,
+        "covariates": covariate_payloads,
         "source": source,
         "ingest": ingest,
     }
-    return AuditJob(title=title, series=series, claim=claim, options=options, input_document=document,
-                    covariates=tuple(covariates), field_names=field_names)
+    return AuditJob(title=title, series=series, claim=resolved, options=options, input_document=document,
+                    covariates=tuple(covariates), field_names=field_names, record=claim.record,
+                    window=window)
 
 
 def string_times(times: Sequence[Any], field: str) -> dict[str, str]:
@@ -127,18 +133,20 @@ def job_from_json(request: Any, settings: Settings) -> AuditJob:
            if ingest_values["min_months_per_year"] is not None else {}))
     series = series_from_json(request.series.model_dump(exclude_none=True), ingest_options, field="series")
     options = audit_options(request.options.model_dump(), settings)
-    claim = make_claim(request.claim.start, request.claim.end, request.claim.kind)
+    claim = ClaimInput(kind=request.claim.kind, start=request.claim.start, end=request.claim.end,
+                       record=claim_record(request.claim.model_dump(), settings.max_string_length))
     covariates = covariates_from_json([c.model_dump() for c in request.covariates], ingest_options)
     return prepare_job(title=request.title, series=series, claim=claim, options=options,
                        source=request.source.model_dump(), settings=settings,
                        ingest={"format": "json", "options": dataclasses.asdict(ingest_options)}, covariates=covariates)
 
 
-def job_from_csv(data: str | bytes, *, claim: Claim, options: AuditOptions, settings: Settings, title: str = "",
+def job_from_csv(data: str | bytes, *, claim: ClaimInput, options: AuditOptions, settings: Settings, title: str = "",
                  time_column: str | None = None, value_column: str | None = None, decimal_comma: bool = False,
                  missing_sentinels: tuple[float, ...] = (), source: dict[str, Any] | None = None,
                  filename: str | None = None, covariate_columns: Sequence[str] = (),
-                 covariate_max_lag: int | None = None) -> AuditJob:
+                 covariate_max_lag: int | None = None, label: str | None = None,
+                 units: str | None = None) -> AuditJob:
     """A CSV upload; ``covariate_columns`` names other numeric columns to adjust for (errors about them
     point at the fields ``covariate_columns`` and ``covariate_max_lag``)."""
     source = source or {}
@@ -151,8 +159,11 @@ def job_from_csv(data: str | bytes, *, claim: Claim, options: AuditOptions, sett
     table = read_csv_text(data, ingest_options)
     covariates = covariates_from_table(table, covariate_columns, covariate_max_lag)
     raw = data.encode("utf-8") if isinstance(data, str) else data
+    # The column names the series unless the person said what it measures.
+    series = dataclasses.replace(table.series, label=label or table.series.label,
+                                 units=units or table.series.units)
     return prepare_job(
-        title=title, series=table.series, claim=claim, options=options, source=source, settings=settings,
+        title=title, series=series, claim=claim, options=options, source=source, settings=settings,
         ingest={"format": "csv", "options": dataclasses.asdict(ingest_options), "filename": filename,
                 "file_sha256": hashlib.sha256(raw).hexdigest(), "delimiter": table.delimiter,
                 "columns": list(table.columns), "time_column": table.time_column,
@@ -168,7 +179,8 @@ def compute_document(job: AuditJob) -> dict[str, Any]:
         result = run_audit(job.series, job.claim, job.options, covariates=[c.covariate for c in job.covariates])
     except InputError as error:
         raise rename_fields(error, {}, job.field_names) from None
-    return audit_document(result)
+    document = audit_document(result)
+    return {**document, "claim": {**document["claim"], **job.record.as_dict(), "window": job.window}}
 
 
 def store_audit(audits: AuditRepository, job: AuditJob, document: dict[str, Any]) -> tuple[AuditRecord, str]:
@@ -176,9 +188,9 @@ def store_audit(audits: AuditRepository, job: AuditJob, document: dict[str, Any]
     input_document = {**job.input_document, "options": {**job.input_document["options"], "seed": seed}}
     verdict = document.get("verdict") or {}
     summary = {"verdict": {"code": verdict.get("code"), "headline": verdict.get("headline")},
-               "claim": input_document["claim"], "n": job.series.n, "label": job.series.label,
+               "claim": listed_claim(input_document["claim"]), "n": job.series.n, "label": job.series.label,
                "covariates": [c.name for c in job.covariates]}
-    return audits.create(NewAudit(
+    return audits.create(NewAudit(search_text=search_text(job.title, job.record),
         title=job.title, input_document=input_document, result_document=document,
         input_sha256=(document.get("inputs") or {}).get("sha256") or job.series.sha256(), seed=seed,
         software_version=document.get("software_version") or __version__, summary=summary, kind=AUDIT))

@@ -19,6 +19,7 @@ from app.correlation import CorrelationOptions, check_correlation_options, corre
 from app.errors import Location, SeriesFormatError
 from app.ingest import IngestOptions, Series, read_csv_text, series_from_json
 from app.service.audits import string_times, with_defaults
+from app.service.claims import ClaimRecord, claim_record, derived_seed, listed_claim, search_text
 from app.service.columns import extra_column, unusable_column
 from app.service.limits import check_string_lengths, check_work
 from app.service.payloads import series_payload
@@ -34,6 +35,7 @@ class CorrelationJob:
     options: CorrelationOptions
     max_simulations: int
     input_document: dict[str, Any]  # everything needed to run the same audit again
+    record: ClaimRecord = ClaimRecord()  # the claim the audit answers: who said it, where and when
 
 
 def correlation_options(window_years: float, transform: str, values: dict[str, Any],
@@ -50,15 +52,20 @@ def default_correlation_title(driver: Series, response: Series, options: Correla
 
 
 def prepare_correlation_job(*, title: str, driver: Series, response: Series, options: CorrelationOptions,
-                            source: dict[str, Any], ingest: dict[str, Any], settings: Settings) -> CorrelationJob:
+                            source: dict[str, Any], ingest: dict[str, Any], settings: Settings,
+                            record: ClaimRecord = ClaimRecord()) -> CorrelationJob:
     title = title.strip() or default_correlation_title(driver, response, options)
     check_work(response.n, options.simulations, settings.max_simulated_points)
     check_string_lengths({"title": title}, settings.max_string_length)
+    seed_from = "given" if options.seed is not None else "inputs"
+    if options.seed is None:
+        options = dataclasses.replace(options, seed=derived_seed(
+            pair_sha256(driver, response), {k: v for k, v in dataclasses.asdict(options).items() if k != "seed"}))
     document = {"format": ingest.get("format"), "driver": series_payload(driver),
-                "response": series_payload(response), "options": dataclasses.asdict(options), "source": source,
-                "ingest": ingest}
+                "response": series_payload(response), "options": dataclasses.asdict(options),
+                "seed_from": seed_from, "claim": record.as_dict(), "source": source, "ingest": ingest}
     return CorrelationJob(title=title, driver=driver, response=response, options=options,
-                          max_simulations=settings.max_simulations, input_document=document)
+                          max_simulations=settings.max_simulations, input_document=document, record=record)
 
 
 def correlation_job_from_json(request: Any, settings: Settings) -> CorrelationJob:
@@ -74,16 +81,17 @@ def correlation_job_from_json(request: Any, settings: Settings) -> CorrelationJo
     reading = IngestOptions(max_points=settings.max_points)
     driver = series_from_json(request.driver.model_dump(exclude_none=True), reading, field="driver")
     response = series_from_json(request.response.model_dump(exclude_none=True), reading, field="response")
+    record = claim_record(request.claim.model_dump() if request.claim else None, settings.max_string_length)
     return prepare_correlation_job(title=request.title, driver=driver, response=response, options=options,
                                    source=request.source.model_dump(), settings=settings,
-                                   ingest={"format": "json", "options": dataclasses.asdict(reading)})
+                                   ingest={"format": "json", "options": dataclasses.asdict(reading)}, record=record)
 
 
 def correlation_job_from_csv(data: str | bytes, *, driver_column: str, response_column: str,
                              options: CorrelationOptions, settings: Settings, title: str = "",
                              time_column: str | None = None, decimal_comma: bool = False,
                              missing_sentinels: tuple[float, ...] = (), source: dict[str, Any] | None = None,
-                             filename: str | None = None) -> CorrelationJob:
+                             filename: str | None = None, record: ClaimRecord = ClaimRecord()) -> CorrelationJob:
     """Two numeric columns of one file on its time column: errors name ``driver_column`` / ``response_column``."""
     source = source or {}
     check_string_lengths({"title": title, "time_column": time_column, "driver_column": driver_column,
@@ -105,13 +113,14 @@ def correlation_job_from_csv(data: str | bytes, *, driver_column: str, response_
         ingest={"format": "csv", "options": dataclasses.asdict(reading), "filename": filename,
                 "file_sha256": hashlib.sha256(raw).hexdigest(), "delimiter": table.delimiter,
                 "columns": list(table.columns), "time_column": table.time_column, "driver_column": found[0],
-                "response_column": table.value_column, "month_column": table.month_column})
+                "response_column": table.value_column, "month_column": table.month_column}, record=record)
 
 
 def compute_correlation_document(job: CorrelationJob) -> dict[str, Any]:
     """The CPU-bound part: runs in the compute pool (or directly, from the CLI)."""
-    return correlation_document(run_correlation(job.driver, job.response, job.options,
-                                                max_simulations=job.max_simulations))
+    document = correlation_document(run_correlation(job.driver, job.response, job.options,
+                                                    max_simulations=job.max_simulations))
+    return {**document, "claim": job.record.as_dict()}
 
 
 def pair_sha256(driver: Series, response: Series) -> str:
@@ -127,8 +136,8 @@ def store_correlation(audits: AuditRepository, job: CorrelationJob,
     summary = {"verdict": {"code": verdict.get("code"), "headline": verdict.get("headline")},
                "driver": job.driver.label, "response": job.response.label,
                "window_years": job.options.window_years, "transform": job.options.transform,
-               "n": (document.get("inputs") or {}).get("n")}
-    return audits.create(NewAudit(
+               "n": (document.get("inputs") or {}).get("n"), "claim": listed_claim(job.record.as_dict())}
+    return audits.create(NewAudit(search_text=search_text(job.title, job.record),
         title=job.title, input_document=input_document, result_document=document,
         input_sha256=pair_sha256(job.driver, job.response), seed=seed,
         software_version=document.get("software_version") or __version__, summary=summary, kind=CORRELATION))

@@ -6,23 +6,35 @@ a value that is not text (a file sent where text belongs) is refused, naming the
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from typing import Any, Protocol
 
 from app.errors import InputError, Location
-from app.service.audits import AuditJob, audit_options, job_from_csv, make_claim, rename_fields
+from app.service.audits import AuditJob, audit_options, job_from_csv, rename_fields
+from app.service.claims import CLAIM_RECORD_FIELDS, ClaimInput, claim_record
 from app.service.covariates import column_names
 from app.settings import Settings
 
 # The audit names fields by their JSON path; the form by its multipart names.
+CLAIM_FORM_FIELDS = {name: f"claim_{name}" for name in CLAIM_RECORD_FIELDS}
 FORM_FIELD_NAMES = {"claim.start": "claim_start", "claim.end": "claim_end", "claim.kind": "claim_kind",
+                    **{f"claim.{name}": field for name, field in CLAIM_FORM_FIELDS.items()},
                     **{f"options.{name}": name for name in ("confidence", "noise", "simulations", "seed",
                                                             "reference_start", "reference_end", "rate_unit")}}
-OPTION_FIELDS = {"confidence": float, "noise": str, "simulations": int, "seed": int, "reference_start": float,
-                 "reference_end": float, "rate_unit": str}
+# Reference edges stay text: they are written like window edges ("1961", "1961-01").
+OPTION_FIELDS = {"confidence": float, "noise": str, "simulations": int, "seed": int, "reference_start": str,
+                 "reference_end": str, "rate_unit": str}
+# Every field the multipart audit takes; anything else is refused by name, never silently dropped.
+KNOWN_FORM_FIELDS = frozenset({
+    "file", "title", "label", "units", "claim_start", "claim_end", "claim_kind", *CLAIM_FORM_FIELDS.values(),
+    "time_column", "value_column", *OPTION_FIELDS, "decimal_comma", "missing_sentinels", "covariate_columns",
+    "covariate_max_lag", "source_name", "source_url", "source_notes"})
 
 
 class Form(Protocol):
     def get(self, name: str) -> Any: ...
+
+    def keys(self) -> Iterable[str]: ...
 
     def getlist(self, name: str) -> list[Any]: ...
 
@@ -87,15 +99,29 @@ def form_sentinels(form: Form) -> tuple[float, ...]:
                          location=Location(field="missing_sentinels"), fix="Write them as e.g. -999,-99.99") from None
 
 
+def check_known_fields(names: Iterable[str]) -> None:
+    """422 naming every field the multipart audit does not take."""
+    unknown = sorted({name for name in names if name not in KNOWN_FORM_FIELDS})
+    if unknown:
+        shown = ", ".join(f"'{name[:40]}'" for name in unknown[:10])
+        raise InputError(f"unknown form field{'s' if len(unknown) > 1 else ''} {shown}",
+                         location=Location(field=unknown[0][:100]),
+                         fix="Send only the fields the form takes: " + ", ".join(sorted(KNOWN_FORM_FIELDS)))
+
+
 def job_from_form(form: Form, data: bytes, filename: str | None, settings: Settings) -> AuditJob:
     """The multipart audit: the CSV in ``data``, everything else in the form's text fields."""
+    check_known_fields(form.keys())
     try:
-        claim = make_claim(form_required(form, "claim_start"), form_required(form, "claim_end"),
-                           form_text(form, "claim_kind") or "pause", prefix="claim_")
+        record = claim_record({name: form_text(form, field) for name, field in CLAIM_FORM_FIELDS.items()},
+                              settings.max_string_length)
+        claim = ClaimInput(kind=form_text(form, "claim_kind") or "pause", start=form_required(form, "claim_start"),
+                           end=form_required(form, "claim_end"), record=record)
         options = audit_options({name: form_number(form, name, kind) if kind is not str else form_text(form, name)
                                  for name, kind in OPTION_FIELDS.items()}, settings)
         return job_from_csv(
             data, claim=claim, options=options, settings=settings, title=form_text(form, "title") or "",
+            label=form_text(form, "label"), units=form_text(form, "units"),
             time_column=form_text(form, "time_column"), value_column=form_text(form, "value_column"),
             decimal_comma=form_flag(form, "decimal_comma"), missing_sentinels=form_sentinels(form),
             source={"name": form_text(form, "source_name"), "url": form_text(form, "source_url"),

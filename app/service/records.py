@@ -11,6 +11,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from app.report.chart_sets import AUDIT_CHARTS, CORRELATION_CHARTS, ChartSet
+from app.service.claims import search_words
 from app.service.csv_export import audit_data_csv, correlation_data_csv
 from app.settings import Settings
 from app.store import AUDIT, CORRELATION, AuditRecord, AuditRepository, Page
@@ -35,9 +36,18 @@ class RecordKind:
         return f"{self.report_path}/{record_id}"
 
     def links(self, record_id: str, settings: Settings) -> dict[str, str]:
+        """Where the record lives; absolute under TRENDAUDIT_PUBLIC_BASE_URL, never from a request's Host."""
         base = settings.public_base_url.rstrip("/")
         return {"url": f"{base}{self.api_path}/{record_id}", "report_url": f"{base}{self.report(record_id)}",
                 "data_url": f"{base}{self.api_path}/{record_id}/data.csv"}
+
+    def link_set(self, record_id: str, document: dict[str, Any], settings: Settings) -> dict[str, Any]:
+        """The answer's ``links``: the API resource, the report page, the data as CSV and each chart."""
+        base = settings.public_base_url.rstrip("/")
+        where = self.links(record_id, settings)
+        charts = {name: f"{base}{self.report(record_id)}/charts/{name}.svg" for name in self.charts.names(document)}
+        return {"self": where["url"], "report": where["report_url"], "data_csv": where["data_url"],
+                "charts": charts}
 
 
 AUDITS = RecordKind(AUDIT, "audit", "/api/v1/audits", "/audits", AUDIT_CHARTS, audit_data_csv, "audit_id",
@@ -58,16 +68,18 @@ def record_body(kind: RecordKind, record: AuditRecord, settings: Settings,
                 owner_token: str | None = None) -> dict[str, Any]:
     """The answer for one stored record: who and where first, then the result document as stored."""
     head: dict[str, Any] = {"id": record.id, "kind": record.kind, "title": record.title,
-                            "created_at": utc_text(record.created_at), **kind.links(record.id, settings)}
+                            "created_at": utc_text(record.created_at), **kind.links(record.id, settings),
+                            "links": kind.link_set(record.id, record.result_document, settings)}
     if owner_token is not None:
         head["owner_token"] = owner_token
     return {**head, **{k: v for k, v in record.result_document.items() if k not in head}}
 
 
 def list_records(audits: AuditRepository, kind: RecordKind, settings: Settings, *, limit: int,
-                 cursor: str | None) -> dict[str, Any]:
-    """A page of stored records as the list endpoints answer it, newest first."""
-    page = audits.list(limit=limit, cursor=cursor, kind=kind.kind)
+                 cursor: str | None, q: str | None = None) -> dict[str, Any]:
+    """A page of stored records as the list endpoints answer it, newest first; ``q`` searches the title and
+    the claim's words, claimant and outlet."""
+    page = audits.list(limit=limit, cursor=cursor, kind=kind.kind, search=search_words(q))
     items = [{"id": item.id, "kind": item.kind, "title": item.title, "created_at": utc_text(item.created_at),
               "summary": item.summary,
               **{k: v for k, v in kind.links(item.id, settings).items() if k in ("url", "report_url")}}
@@ -79,9 +91,9 @@ def read_record(audits: AuditRepository, kind: RecordKind, record_id: str) -> Au
     return audits.get(record_id, kind=kind.kind)
 
 
-def list_history(audits: AuditRepository, *, limit: int, cursor: str | None) -> Page:
-    """Stored records of every kind, newest first (the desk's history)."""
-    return audits.list(limit=limit, cursor=cursor)
+def list_history(audits: AuditRepository, *, limit: int, cursor: str | None, q: str | None = None) -> Page:
+    """Stored records of every kind, newest first (the desk's history); ``q`` searches as the API's lists do."""
+    return audits.list(limit=limit, cursor=cursor, search=search_words(q))
 
 
 def read_body(audits: AuditRepository, kind: RecordKind, record_id: str, settings: Settings) -> dict[str, Any]:

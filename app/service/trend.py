@@ -6,11 +6,15 @@ from __future__ import annotations
 from dataclasses import replace
 from typing import Any
 
+
 from app.audit.serialize import trend_document
 from app.errors import ClaimError, Location
 from app.ingest import IngestOptions, series_from_json
 from app.ingest.series import Series
 from app.ingest.validate import check_enough_values, check_window_in_series
+from app.ingest.window_edges import in_window
+from app.audit.claim import Claim
+from app.service.claims import ClaimInput, Edge, edge_instant, window_echo, window_series
 from app.service.covariates import check_lag_cells, covariates_from_json
 from app.settings import Settings
 from app.stats.adjust import fit_covariates
@@ -19,23 +23,28 @@ from app.stats.noise_fit import select_noise_model
 from app.stats.ols import fit_trend
 from app.stats.trend import summarise_trend
 
+_OPEN_EDGE = 1e-6  # an open end lies just past the last point even when the series has no step
 ADJUSTMENT_FALLBACK_NOISE = "ar1"  # the covariate fit's ranges need a noise kind, not a trend method
 
 
-def trend_window(series: Series, start: float | None, end: float | None) -> Series:
+def trend_window(series: Series, start: Edge | None, end: Edge | None) -> tuple[Series, dict[str, Any] | None]:
+    """The points the window holds, its edges meaning what they mean in an audit's claim; and the window as
+    given and as resolved (None for the whole record). An edge left out is the record's own first or last period."""
     if start is None and end is None:
-        return series
-    start = series.start if start is None else start
-    end = series.end if end is None else end
+        return series, None
+    open_end = float(series.end) + max(series.step / 2.0, _OPEN_EDGE)
+    resolved = Claim(start=edge_instant(start, "start", "start") if start is not None else float(series.start),
+                     end=edge_instant(end, "end", "end") if end is not None else open_end)
     try:
-        check_window_in_series(series, start, end, field_prefix="window")
+        check_window_in_series(series, resolved.start, resolved.end, field_prefix="window")
     except ClaimError as error:
         # The trend body names the window's edges at the top level: "start", "end".
         error.location = replace(error.location, field=(error.location.field or "").removeprefix("window."))
         raise
-    window = series.window(start, end)
-    check_enough_values(window.n, 0, Location(field="start"), after=f" between {start:g} and {end:g}")
-    return window
+    window = window_series(series, in_window(series.time, resolved.start, resolved.end))
+    check_enough_values(window.n, 0, Location(field="start"),
+                        after=f" between {resolved.start:g} and {resolved.end:g}")
+    return window, window_echo(ClaimInput(kind=resolved.kind, start=start, end=end), resolved, series)
 
 
 def _fitted_noise(window: Series, method: str) -> NoiseModel:
@@ -50,7 +59,7 @@ def compute_trend(body: Any, settings: Settings) -> dict[str, Any]:
     reading = IngestOptions(max_points=settings.max_points)
     series = series_from_json(body.series.model_dump(exclude_none=True), reading, field="series")
     covariates = covariates_from_json([c.model_dump() for c in body.covariates], reading)
-    window = trend_window(series, body.start, body.end)
+    window, echo = trend_window(series, body.start, body.end)
     fit, noise = None, None
     if covariates:
         check_lag_cells(window, covariates, [f"covariates[{i}].max_lag" for i in range(len(covariates))])
@@ -59,5 +68,5 @@ def compute_trend(body: Any, settings: Settings) -> dict[str, Any]:
                              noise_kind=noise, confidence=body.confidence, lag_rule=body.lag_rule)
     summary = summarise_trend(window.time, window.value, method=body.noise, confidence=body.confidence,
                               noise=_fitted_noise(window, body.noise), points_per_year=window.points_per_year)
-    return trend_document(summary, start=window.start, end=window.end, confidence=body.confidence,
-                          adjustment=fit, adjustment_noise=noise)
+    return {**trend_document(summary, start=window.start, end=window.end, confidence=body.confidence,
+                             adjustment=fit, adjustment_noise=noise), "window": echo}

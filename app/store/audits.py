@@ -27,6 +27,8 @@ from app.store.engine import write_options
 ID_BYTES = 18  # 144 bits, 24 URL-safe characters
 OWNER_TOKEN_BYTES = 32
 MAX_PAGE_SIZE = 100
+# Not a backslash, whose meaning in a string literal differs between databases and their settings.
+LIKE_ESCAPE = "!"
 AUDIT = "audit"
 CORRELATION = "correlation"
 KIND_NOUNS = {AUDIT: "audit", CORRELATION: "correlation audit"}
@@ -40,6 +42,7 @@ audits_table = sa.table(
     sa.column("input_sha256", sa.String), sa.column("seed", sa.BigInteger),
     sa.column("software_version", sa.String), sa.column("owner_token_sha256", sa.String),
     sa.column("summary", sa.JSON), sa.column("input_document", sa.JSON), sa.column("result_document", sa.JSON),
+    sa.column("search_text", sa.Text),
 )
 
 
@@ -63,6 +66,7 @@ class NewAudit:
     software_version: str
     summary: dict[str, Any]
     kind: str = AUDIT
+    search_text: str = ""  # lower-cased words a history search matches (title, the claim's words, who, where)
 
 
 @dataclass(frozen=True)
@@ -129,6 +133,7 @@ class AuditRepository:
             "input_sha256": audit.input_sha256, "seed": audit.seed, "software_version": audit.software_version,
             "owner_token_sha256": token_digest(owner_token), "summary": audit.summary,
             "input_document": audit.input_document, "result_document": audit.result_document,
+            "search_text": audit.search_text.lower(),
         }
         with self.engine.connect().execution_options(**write_options(self.engine)) as connection:
             with connection.begin():
@@ -151,8 +156,10 @@ class AuditRepository:
             raise _not_found(audit_id, kind)
         return AuditRecord(**{**row, "created_at": _utc(row["created_at"])})
 
-    def list(self, *, limit: int = 20, cursor: str | None = None, kind: str | None = None) -> Page:
-        """Newest first. The cursor is opaque to callers: it marks where the previous page stopped."""
+    def list(self, *, limit: int = 20, cursor: str | None = None, kind: str | None = None,
+             search: str | None = None) -> Page:
+        """Newest first. The cursor is opaque to callers: it marks where the previous page stopped. With
+        ``search``, only records whose searchable words hold it (case-insensitive, as a bound parameter)."""
         if not 1 <= limit <= MAX_PAGE_SIZE:
             raise InputError(f"limit {limit} is outside 1..{MAX_PAGE_SIZE}", location=Location(field="limit"),
                              fix=f"Ask for between 1 and {MAX_PAGE_SIZE} audits per page")
@@ -162,6 +169,8 @@ class AuditRepository:
             query = query.where(t.c.seq < decode_cursor(cursor))
         if kind is not None:
             query = query.where(t.c.kind == kind)
+        if search:
+            query = query.where(t.c.search_text.like(f"%{_like_escaped(search.lower())}%", escape=LIKE_ESCAPE))
         query = query.order_by(t.c.seq.desc()).limit(limit + 1)
         with self.engine.connect() as connection:
             rows = connection.execute(query).mappings().all()
@@ -190,6 +199,11 @@ class AuditRepository:
                                        location=Location(field="X-Owner-Token"),
                                        fix=f"Send the owner_token returned when this {noun} was created")
                 connection.execute(t.delete().where(t.c.id == audit_id))
+
+
+def _like_escaped(text: str) -> str:
+    """The text matched literally by LIKE: its wildcards and the escape character escaped."""
+    return text.replace(LIKE_ESCAPE, LIKE_ESCAPE * 2).replace("%", LIKE_ESCAPE + "%").replace("_", LIKE_ESCAPE + "_")
 
 
 def _identified(audit_id: str, kind: str | None):

@@ -72,6 +72,13 @@ def _v2_charts(connection: Connection) -> None:
     metadata.tables["charts"].create(connection)
 
 
+def _v3_search_text(connection: Connection) -> None:
+    # The lower-cased words a history search matches (title, the claim's words, claimant, outlet), one plain
+    # text column so the same parameterised LIKE serves SQLite and PostgreSQL. Older records match by title.
+    connection.execute(sa.text("ALTER TABLE audits ADD COLUMN search_text TEXT"))
+    connection.execute(sa.text("UPDATE audits SET search_text = LOWER(title)"))
+
+
 @dataclass(frozen=True)
 class Migration:
     version: int
@@ -82,6 +89,7 @@ class Migration:
 MIGRATIONS: tuple[Migration, ...] = (
     Migration(1, "audits table: inputs, seed, version, result, owner token hash", _v1_audits),
     Migration(2, "charts table: each record's drawn charts, deleted with it", _v2_charts),
+    Migration(3, "audits.search_text: the words a history search matches", _v3_search_text),
 )
 
 

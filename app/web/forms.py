@@ -15,7 +15,7 @@ from starlette.datastructures import FormData, UploadFile
 from app.audit.claim import NOISE_MODELS, RATE_UNITS, AuditOptions
 from app.errors import InputError, Location
 from app.service.covariates import column_names
-from app.service.forms import form_number
+from app.service.forms import CLAIM_FORM_FIELDS, form_number
 from app.settings import Settings
 from app.stats.correlate import TRANSFORMS
 from app.vocabulary import ACCELERATION, CLAIM_KINDS, PAUSE, REVERSAL, SLOWDOWN
@@ -24,7 +24,8 @@ TEXT_FIELDS = ("table", "sample", "title", "label", "units", "time_column", "val
                "claim_end", "claim_kind", "reference_start", "reference_end", "confidence", "noise", "simulations",
                "seed", "rate_unit", "missing_sentinels", "source_name", "source_url", "source_notes",
                "covariate_max_lag", "check", "driver_column", "driver_label", "driver_units", "window_years",
-               "transform")
+               "transform", "claim_text", "claim_claimant", "claim_outlet", "claim_made_on", "claim_source_url",
+               "read_claim")
 CONFIDENCE_CHOICES = ("0.9", "0.95", "0.99")
 TREND, LINK = "trend", "link"  # what the desk checks: a claim about one series' trend, or a driver and a response
 DEFAULT_WINDOW_YEARS = "15"
@@ -62,10 +63,20 @@ class DeskForm:
     driver_units: str = ""
     window_years: str = ""
     transform: str = ""
+    claim_text: str = ""  # the claim as said: its words, who said it, where, when, and where it can be read
+    claim_claimant: str = ""
+    claim_outlet: str = ""
+    claim_made_on: str = ""
+    claim_source_url: str = ""
+    read_claim: str = ""  # set by the button that reads the sentence into kind and window
 
     @property
     def checks_link(self) -> bool:
         return self.check == LINK
+
+    def claim_record_values(self) -> dict[str, str]:
+        """The claim record's fields under their JSON names (text, claimant...)."""
+        return {name: getattr(self, field) for name, field in CLAIM_FORM_FIELDS.items()}
 
     def source(self) -> dict[str, str | None]:
         return {"name": self.source_name.strip() or None, "url": self.source_url.strip() or None,

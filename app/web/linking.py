@@ -13,6 +13,7 @@ from fastapi import APIRouter, Request
 from fastapi.responses import HTMLResponse, RedirectResponse
 
 from app.ingest import Series
+from app.service.claims import claim_record
 from app.service.correlations import CorrelationJob, correlation_job_from_csv, correlation_options
 from app.service.limits import check_string_lengths
 from app.service.payloads import series_payload
@@ -47,7 +48,8 @@ def correlation_job(form: DeskForm, filename: str | None, settings: Settings) ->
         text, driver_column=required(form.driver_column, "driver_column", DRIVER_FIX),
         response_column=table.value_column, options=options, settings=settings, title=form.title.strip(),
         time_column=table.time_column, decimal_comma=ingest.decimal_comma, missing_sentinels=ingest.missing_sentinels,
-        source=form.source(), filename=filename or (sample or {}).get("file"))
+        source=form.source(), filename=filename or (sample or {}).get("file"),
+        record=claim_record(form.claim_record_values(), settings.max_string_length, prefix="claim_"))
     driver = _named(job.driver, form.driver_label, form.driver_units)
     response = _named(job.response, table.series.label, table.series.units)
     return dataclasses.replace(job, driver=driver, response=response, input_document={

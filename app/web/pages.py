@@ -15,20 +15,20 @@ from fastapi import APIRouter, Request
 from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import HTMLResponse, RedirectResponse
 
-from app.audit import Claim
 from app.dependencies import get_runtime
 from app.errors import AccessDenied, InputError, TrendAuditError
-from app.service.audits import audit_options, job_from_csv
+from app.service.audits import audit_options, job_from_csv, rename_fields
+from app.service.claims import SEARCH_MAX_CHARS, ClaimInput, claim_record
+from app.service.forms import FORM_FIELD_NAMES
 from app.service.creating import create_record
 from app.service.limits import check_string_lengths
-from app.service.payloads import series_payload
 from app.service.records import AUDITS, RecordKind, list_history
 from app.settings import Settings
 from app.web.access import (check_key, forget_key, has_access, keys_required, remember_key, require_access,
                             safe_next)
+from app.web.claim_box import ClaimReadingView, read_into_form
 from app.web.forms import LINK, TREND, DeskForm, form_choices
 from app.web.owners import created_redirect
-from app.web.periods import first_time_in, last_time_in
 from app.web.preview import PreviewView, preview_view
 from app.web.problems import ProblemView, problem_view
 from app.web.reading import (chosen_columns, ingest_options, posted_form, read_table, required, sample_filled,
@@ -44,10 +44,11 @@ WINDOW_FIX = "Give the first and last year (or month) of the claimed window"
 # The home page and the preview -------------------------------------------------------------------------
 
 def desk(request: Request, *, form: DeskForm, preview: PreviewView | None = None,
-         problem: ProblemView | None = None, sample: dict[str, Any] | None = None) -> HTMLResponse:
+         problem: ProblemView | None = None, sample: dict[str, Any] | None = None,
+         claim_reading: ClaimReadingView | None = None) -> HTMLResponse:
     settings: Settings = request.app.state.settings
     return html("home.html", status=problem.status if problem else 200, form=form, preview=preview, problem=problem,
-                sample=sample, samples=samples(settings), needs_key=not has_access(request, settings),
+                sample=sample, claim_reading=claim_reading, samples=samples(settings), needs_key=not has_access(request, settings),
                 keys_required=keys_required(settings), page_title="Trend Audit: check a claim about a trend",
                 max_upload_mb=round(settings.max_upload_bytes / 2**20, 1),
                 max_upload_bytes=settings.max_upload_bytes, **form_choices(settings))
@@ -61,8 +62,9 @@ async def preview_page(request: Request, form: DeskForm, problem: ProblemView | 
     except TrendAuditError as error:
         return desk(request, form=form, problem=problem or problem_view(error))
     form = chosen_columns(form, table)
+    form, claim_reading = read_into_form(form, table.series, settings)
     view = await run_in_threadpool(preview_view, table)
-    return desk(request, form=form, preview=view, problem=problem, sample=sample)
+    return desk(request, form=form, preview=view, problem=problem, sample=sample, claim_reading=claim_reading)
 
 
 @router.get("/", response_class=HTMLResponse)
@@ -84,32 +86,35 @@ async def preview(request: Request) -> HTMLResponse:
 # Running the audit -----------------------------------------------------------------------------------
 
 def _job(form: DeskForm, filename: str | None, settings: Settings):
+    try:
+        return _desk_job(form, filename, settings)
+    except InputError as error:
+        raise rename_fields(error, FORM_FIELD_NAMES) from None
+
+
+def _desk_job(form: DeskForm, filename: str | None, settings: Settings):
+    """The desk's audit goes through the multipart form's own path: the same edges, the same record."""
     form = sample_filled(form, settings)
     table, sample = read_table(form, settings)
-    times = table.series.time
     check_string_lengths({"label": form.label, "units": form.units, "source_name": form.source_name,
                           "source_url": form.source_url, "source_notes": form.source_notes},
                          settings.max_string_length)
-    claim = Claim(start=first_time_in(required(form.claim_start, "claim_start", WINDOW_FIX), times, "claim_start"),
-                  end=last_time_in(required(form.claim_end, "claim_end", WINDOW_FIX), times, "claim_end"),
-                  kind=form.claim_kind.strip() or "pause")
+    claim = ClaimInput(kind=form.claim_kind.strip() or "pause",
+                       start=required(form.claim_start, "claim_start", WINDOW_FIX),
+                       end=required(form.claim_end, "claim_end", WINDOW_FIX),
+                       record=claim_record(form.claim_record_values(), settings.max_string_length))
     reference_start, reference_end = form.reference_texts()
-    options = audit_options({**form.option_values(),
-                             "reference_start": first_time_in(reference_start, times, "reference_start")
-                             if reference_start else None,
-                             "reference_end": last_time_in(reference_end, times, "reference_end")
-                             if reference_end else None}, settings)
+    options = audit_options({**form.option_values(), "reference_start": reference_start or None,
+                             "reference_end": reference_end or None}, settings)
     text, _ = table_text(form, settings)
     ingest = ingest_options(form, settings, sample)
-    job = job_from_csv(text, claim=claim, options=options, settings=settings, title=form.title.strip(),
-                       time_column=table.time_column, value_column=table.value_column,
-                       decimal_comma=ingest.decimal_comma, missing_sentinels=ingest.missing_sentinels,
-                       source=form.source(), filename=filename or (sample or {}).get("file"),
-                       covariate_columns=form.covariate_columns, covariate_max_lag=form.covariate_lag())
     # The API's CSV path names the series after its column; the desk lets the person say what it measures.
-    series = dataclasses.replace(job.series, label=table.series.label, units=table.series.units)
-    return dataclasses.replace(job, series=series,
-                               input_document={**job.input_document, "series": series_payload(series)})
+    return job_from_csv(text, claim=claim, options=options, settings=settings, title=form.title.strip(),
+                        time_column=table.time_column, value_column=table.value_column,
+                        decimal_comma=ingest.decimal_comma, missing_sentinels=ingest.missing_sentinels,
+                        source=form.source(), filename=filename or (sample or {}).get("file"),
+                        covariate_columns=form.covariate_columns, covariate_max_lag=form.covariate_lag(),
+                        label=table.series.label, units=table.series.units)
 
 
 async def run_desk_form(request: Request, *, check: str, make_job: Callable,
@@ -147,7 +152,7 @@ def _key_page(request: Request, error: TrendAuditError | None, next_path: str) -
 
 
 @router.get("/history", response_class=HTMLResponse)
-async def history(request: Request, cursor: str | None = None) -> HTMLResponse:
+async def history(request: Request, cursor: str | None = None, q: str | None = None) -> HTMLResponse:
     settings: Settings = request.app.state.settings
     try:
         require_access(request, settings, "Listing audits")
@@ -155,12 +160,14 @@ async def history(request: Request, cursor: str | None = None) -> HTMLResponse:
         return _key_page(request, error, "/history")
     try:
         page = await run_in_threadpool(list_history, get_runtime(request).audits, limit=HISTORY_PAGE_SIZE,
-                                       cursor=(cursor or None) and cursor[:64])
+                                       cursor=(cursor or None) and cursor[:64], q=q)
     except InputError as error:
         return html("history.html", status=problem_view(error).status, noindex=True, problem=problem_view(error),
-                    items=(), next_cursor=None, page_title="History - Trend Audit", first_page=True)
+                    items=(), next_cursor=None, page_title="History - Trend Audit", first_page=True,
+                    q=(q or "")[:SEARCH_MAX_CHARS], search_max=SEARCH_MAX_CHARS)
     return html("history.html", noindex=True, problem=None, items=page.items, next_cursor=page.next_cursor,
-                first_page=cursor is None, page_title="History - Trend Audit")
+                first_page=cursor is None, page_title="History - Trend Audit", q=q or "",
+                search_max=SEARCH_MAX_CHARS)
 
 
 @router.get("/access", response_class=HTMLResponse)

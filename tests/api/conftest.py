@@ -14,7 +14,7 @@ from app.settings import Settings
 from store.databases import database_url, postgres_url  # noqa: F401  (fixtures)
 
 TEST_SIMULATIONS = 200  # the least the audit accepts is 100; 200 keeps each audit quick
-VOLATILE = ("id", "created_at", "owner_token", "url", "report_url", "data_url")  # differ between two stored copies
+VOLATILE = ("id", "created_at", "owner_token", "url", "report_url", "data_url", "links")  # differ between two stored copies
 
 
 def invented_series(seed: int = 7, start: int = 1950, end: int = 2024, slope: float = 0.02,

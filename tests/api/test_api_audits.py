@@ -35,8 +35,10 @@ def created(client):
 
 def test_create_answers_201_with_location_and_the_documented_fields(created):
     body = created.json()
-    assert created.headers["location"] == f"/audits/{body['id']}"
-    assert body["report_url"] == f"/audits/{body['id']}"
+    assert created.headers["location"] == f"/api/v1/audits/{body['id']}" == body["links"]["self"]
+    assert body["report_url"] == f"/audits/{body['id']}" == body["links"]["report"]
+    assert body["links"]["data_csv"] == f"/api/v1/audits/{body['id']}/data.csv"
+    assert body["links"]["charts"]["series"] == f"/audits/{body['id']}/charts/series.svg"
     assert len(body["id"]) * 6 >= 128 and len(body["owner_token"]) >= 32
     for section, keys in HEADLINE_KEYS.items():
         assert keys <= set(body[section]), section
@@ -79,8 +81,12 @@ def test_the_stored_inputs_rerun_to_the_stored_result(client, created):
     stored = record.input_document
     series = series_from_payload(stored["series"])
     options = AuditOptions(**stored["options"])
-    rerun = audit_document(run_audit(series, Claim(**stored["claim"]), options))
-    assert rerun == record.result_document
+    claim = Claim(**{name: stored["claim"][name] for name in ("start", "end", "kind")})
+    rerun = audit_document(run_audit(series, claim, options))
+    # The stored document adds who claimed what, and the edges as given, to the serialiser's claim.
+    stored_claim = record.result_document["claim"]
+    assert rerun["claim"] == {name: stored_claim[name] for name in ("start", "end", "kind")}
+    assert {**rerun, "claim": stored_claim} == record.result_document
     assert record.input_sha256 == series.sha256() == created.json()["inputs"]["sha256"]
     assert record.seed == created.json()["seed"]
 
@@ -144,7 +150,7 @@ def test_data_csv_holds_the_input_the_trend_line_and_residuals(client, created):
     line = np.array([float(r["long_term_trend"]) for r in in_reference])
     assert np.allclose(np.diff(line) / np.diff(t), body["long_term"]["slope"], rtol=1e-9)
     window = [r for r in rows if r["in_window"] == "1"]
-    assert {float(r["time"]) for r in window} == {t + 0.5 for t in range(1998, 2013)}
+    assert {float(r["time"]) for r in window} == {t + 0.5 for t in range(1998, 2014)}  # 1998 through 2013
 
 
 def test_data_csv_keeps_negative_numbers_numeric(client):
@@ -198,7 +204,7 @@ def test_multipart_csv_upload_gives_the_same_numbers_as_json(client, created):
                            files={"file": ("series.csv", csv_text(), "text/csv")})
     assert response.status_code == 201, response.text
     body = response.json()
-    assert response.headers["location"] == f"/audits/{body['id']}"
+    assert response.headers["location"] == f"/api/v1/audits/{body['id']}"
     as_json = created.json()
     for section in ("long_term", "window", "trend_change", "spell", "segments"):
         assert body[section] == as_json[section], section
@@ -324,6 +330,9 @@ def test_claim_edges_may_be_written_like_the_data(client):
     created = client.post("/api/v1/audits", json=body)
     assert created.status_code == 201, created.text
     claim = created.json()["claim"]
-    assert claim["start"] == pytest.approx(2005 + 0.5 / 12) and claim["end"] == pytest.approx(2014 + 11.5 / 12)
+    # A month as the start begins at its first instant; as the end it is included whole.
+    assert claim["start"] == pytest.approx(2005.0) and claim["end"] == pytest.approx(2015.0)
+    assert claim["window"] == {"start_given": "2005-01", "end_given": "2014-12", "start": claim["start"],
+                               "end": claim["end"], "first": "2005-01", "last": "2014-12", "points": 120}
     bad = client.post("/api/v1/audits", json={**body, "claim": {"start": "2005-13", "end": "2014-12"}})
     assert_problem(bad, 422, "claim.start")

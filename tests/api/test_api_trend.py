@@ -43,8 +43,11 @@ def test_trend_numbers_are_the_engines_own(client):
     noise = select_noise_model(fit_trend(window.time, window.value).residuals).model_of("ar1")
     expected = summarise_trend(window.time, window.value, method="hac", confidence=0.9, noise=noise,
                                points_per_year=1.0)
-    body = post_trend(client, start=1970, end=2010, noise="hac", confidence=0.9).json()
+    # Whole years at both ends: 1970 through 2009, as window_edges reads them.
+    body = post_trend(client, start=1970, end=2009, noise="hac", confidence=0.9).json()
     assert body["n"] == window.n == 40
+    assert body["window"] == {"start_given": 1970, "end_given": 2009, "start": 1970.0, "end": 2010.0,
+                              "first": "1970", "last": "2009", "points": 40}
     assert body["slope"] == expected.chosen.slope
     assert body["ci"] == list(expected.chosen.ci)
     assert body["p_value"] == expected.chosen.p_value
@@ -109,7 +112,7 @@ def test_trend_method_rows_are_written_as_the_audits_long_term_rows(client):
         "simulations": TEST_SIMULATIONS, "seed": 5, "noise": "ar1", "reference_start": 1950,
         "reference_end": 2024.5})).json()
     assert created["segments"]["n_breaks"] == 0 and created["reference"]["n"] == 75
-    trend = post_trend(client, start=1950, end=2024.5, noise="ar1").json()
+    trend = post_trend(client, start=1950, end=2024, noise="ar1").json()
     long_term = created["long_term"]
     assert [row["name"] for row in trend["methods"]] == [row["method"] for row in long_term["methods"]]
     for row, audit_row in zip(trend["methods"], long_term["methods"]):

@@ -148,4 +148,4 @@ def stored_report(server) -> str:
                                                                "label": "Invented anomaly", "units": "°C"},
         "claim": {"start": 1998, "end": 2013, "kind": "pause"}, "options": {"simulations": 200, "seed": 3}})
     assert answer.status_code == 201, answer.text
-    return f"{server}{answer.headers['location']}"
+    return f"{server}{answer.json()['report_url']}"

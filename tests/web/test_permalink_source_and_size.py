@@ -15,7 +15,7 @@ def test_the_permalink_report_shows_the_source(client):
             "source": {"name": "Invented Weather Office", "url": "https://example.org/data", "notes": "Invented notes"}}
     created = client.post("/api/v1/audits", json=body)
     assert created.status_code == 201
-    page = client.get(created.headers["location"])
+    page = client.get(created.json()["report_url"])
     assert page.status_code == 200
     for text in ("Invented Weather Office", "https://example.org/data", "Invented notes"):
         assert text in page.text
