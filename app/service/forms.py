@@ -9,7 +9,7 @@ from __future__ import annotations
 from typing import Any, Protocol
 
 from app.errors import InputError, Location
-from app.service.audits import AuditJob, audit_options, job_from_csv, make_claim, rename_fields
+from app.service.audits import AuditJob, audit_options, job_from_file, make_claim, rename_fields
 from app.service.covariates import column_names
 from app.settings import Settings
 
@@ -87,20 +87,23 @@ def form_sentinels(form: Form) -> tuple[float, ...]:
                          location=Location(field="missing_sentinels"), fix="Write them as e.g. -999,-99.99") from None
 
 
-def job_from_form(form: Form, data: bytes, filename: str | None, settings: Settings) -> AuditJob:
-    """The multipart audit: the CSV in ``data``, everything else in the form's text fields."""
+def job_from_form(form: Form, data: bytes | None, filename: str | None, settings: Settings) -> AuditJob:
+    """The multipart audit: the file in ``data`` (or, with none, the one at ``data_url``), everything else in the
+    form's text fields. Blocking when it fetches a link: run it in a worker thread."""
     try:
         claim = make_claim(form_required(form, "claim_start"), form_required(form, "claim_end"),
                            form_text(form, "claim_kind") or "pause", prefix="claim_")
         options = audit_options({name: form_number(form, name, kind) if kind is not str else form_text(form, name)
                                  for name, kind in OPTION_FIELDS.items()}, settings)
-        return job_from_csv(
+        return job_from_file(
             data, claim=claim, options=options, settings=settings, title=form_text(form, "title") or "",
             time_column=form_text(form, "time_column"), value_column=form_text(form, "value_column"),
             decimal_comma=form_flag(form, "decimal_comma"), missing_sentinels=form_sentinels(form),
             source={"name": form_text(form, "source_name"), "url": form_text(form, "source_url"),
                     "notes": form_text(form, "source_notes")},
             filename=filename, covariate_columns=form_texts(form, "covariate_columns"),
-            covariate_max_lag=form_number(form, "covariate_max_lag", int))
+            covariate_max_lag=form_number(form, "covariate_max_lag", int), sheet=form_text(form, "sheet"),
+            header_row=form_number(form, "header_row", int), seasonal=form_text(form, "seasonal"),
+            data_url=form_text(form, "data_url"))
     except InputError as error:
         raise rename_fields(error, FORM_FIELD_NAMES) from None

@@ -18,10 +18,9 @@ from fastapi.responses import HTMLResponse, RedirectResponse
 from app.audit import Claim
 from app.dependencies import get_runtime
 from app.errors import AccessDenied, InputError, TrendAuditError
-from app.service.audits import audit_options, job_from_csv
+from app.service.audits import audit_options, job_from_file
 from app.service.creating import create_record
 from app.service.limits import check_string_lengths
-from app.service.payloads import series_payload
 from app.service.records import AUDITS, RecordKind, list_history
 from app.settings import Settings
 from app.web.access import (check_key, forget_key, has_access, keys_required, remember_key, require_access,
@@ -31,8 +30,8 @@ from app.web.owners import created_redirect
 from app.web.periods import first_time_in, last_time_in
 from app.web.preview import PreviewView, preview_view
 from app.web.problems import ProblemView, problem_view
-from app.web.reading import (chosen_columns, ingest_options, posted_form, read_table, required, sample_filled,
-                             samples, table_text)
+from app.web.reading import (chosen_columns, ingest_options, links_to_data, posted_form, read_table, required,
+                             sample_filled, samples, table_text)
 from app.web.responses import html, is_secure
 
 router = APIRouter(include_in_schema=False)
@@ -99,17 +98,16 @@ def _job(form: DeskForm, filename: str | None, settings: Settings):
                              if reference_start else None,
                              "reference_end": last_time_in(reference_end, times, "reference_end")
                              if reference_end else None}, settings)
-    text, _ = table_text(form, settings)
+    linked = links_to_data(form)
+    text = None if linked else table_text(form, settings)[0]
     ingest = ingest_options(form, settings, sample)
-    job = job_from_csv(text, claim=claim, options=options, settings=settings, title=form.title.strip(),
-                       time_column=table.time_column, value_column=table.value_column,
-                       decimal_comma=ingest.decimal_comma, missing_sentinels=ingest.missing_sentinels,
-                       source=form.source(), filename=filename or (sample or {}).get("file"),
-                       covariate_columns=form.covariate_columns, covariate_max_lag=form.covariate_lag())
-    # The API's CSV path names the series after its column; the desk lets the person say what it measures.
-    series = dataclasses.replace(job.series, label=table.series.label, units=table.series.units)
-    return dataclasses.replace(job, series=series,
-                               input_document={**job.input_document, "series": series_payload(series)})
+    return job_from_file(text, claim=claim, options=options, settings=settings, title=form.title.strip(),
+                         time_column=ingest.time_column, value_column=ingest.value_column,
+                         decimal_comma=ingest.decimal_comma, missing_sentinels=ingest.missing_sentinels,
+                         source=form.source(), filename=filename or (sample or {}).get("file"),
+                         covariate_columns=form.covariate_columns, covariate_max_lag=form.covariate_lag(),
+                         sheet=ingest.sheet, header_row=ingest.header_row, seasonal=form.seasonal or None,
+                         data_url=form.data_url.strip() if linked else None, label=ingest.label, units=ingest.units)
 
 
 async def run_desk_form(request: Request, *, check: str, make_job: Callable,
