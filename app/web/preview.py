@@ -52,6 +52,17 @@ class PreviewView:
     seasonal: str = ""  # the seasonal test's finding, with the cycle's size against the noise
 
 
+def how_columns_were_read(table: ParsedTable) -> str:
+    """The caption's sentence on the file's columns: 'Columns separated by commas', 'Read from sheet ...'."""
+    if table.delimiter == "spreadsheet":
+        return f"Read from the sheet “{table.sheet}” of a spreadsheet" if table.sheet else "Read from a spreadsheet"
+    if table.delimiter == "whitespace":
+        return "Columns separated by spaces"
+    if table.delimiter == "fixed-width":
+        return "Columns read by their fixed positions"
+    return f"Columns separated by {DELIMITER_NAMES.get(table.delimiter, table.delimiter)}s"  # "commas"
+
+
 LAYOUT_WORDS = {"year-by-month": "a year-by-month table", "year-by-quarter": "a year-by-quarter table"}
 
 
@@ -86,7 +97,7 @@ def preview_view(table: ParsedTable) -> PreviewView:
         gaps=table.gaps[:SHOWN_PROBLEMS], n_gaps=len(table.gaps), sampling=series.sampling,
         sampling_words=SAMPLING_WORDS.get(series.sampling, series.sampling),
         first=_label(series.start, series.sampling), last=_label(series.end, series.sampling),
-        delimiter=f"{DELIMITER_NAMES[table.delimiter]}s",  # "commas"
+        delimiter=how_columns_were_read(table),
         extra_columns=tuple(table.extra_columns), notes=tuple(series.notes), chart=Markup(chart),
         layout=table.layout, reading=tuple(table.reading), sheets=tuple(table.sheets), sheet=table.sheet,
         header_row=table.header_row, numeric_columns=tuple(table.numeric_columns), seasonal=seasonal_words(table),

@@ -4,11 +4,8 @@ data)."""
 
 from __future__ import annotations
 
-import http.server
 import io
-import math
 import re
-import threading
 import time
 import zipfile
 
@@ -16,33 +13,8 @@ import openpyxl
 import pytest
 
 from api.conftest import TEST_SIMULATIONS, assert_problem
+from api.newsroom_files import XLSX_TYPE, csv_of, level, long_rows, newsroom_files, serving, wide_rows
 from ingest.sheet_files import ods_bytes, ods_cell, ods_row, rewrite_member, xlsx_bytes
-
-MONTHS = ["Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"]
-XLSX_TYPE = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
-
-
-def level(year: int, month: int, cycle: float = 0.0) -> float:
-    """An invented monthly value: a trend, a deterministic wiggle and, optionally, a calendar-month cycle."""
-    k = 12 * (year - 1980) + month - 1
-    return round(0.002 * k + 0.15 * math.sin(1.3 * k) + cycle * math.cos(2 * math.pi * (month - 1) / 12), 4)
-
-
-def wide_rows(cycle: float = 0.0) -> list[list]:
-    """Notes above a year-by-month table with an annual column, as agencies publish them."""
-    rows = [["Invented monthly index of a made-up province"], ["Units: index points; provisional after 2019"], [],
-            ["Year"] + MONTHS + ["Annual"]]
-    for year in range(1980, 2021):
-        values = [level(year, m, cycle) for m in range(1, 13)]
-        rows.append([year] + values + [round(sum(values) / 12, 4)])
-    return rows + [[], ["Compiled for the tests"]]
-
-
-def long_rows() -> list[list]:
-    return [["year", "rain", "sunshine", "wind"]] + [
-        [year, round(0.01 * (year - 1960) + 0.2 * math.sin(1.1 * year), 4), round(5 + 0.3 * math.cos(0.7 * year), 4),
-         round(2 + 0.01 * (year - 1960) + 0.1 * math.sin(2.1 * year), 4)] for year in range(1960, 2021)]
-
 
 def monthly_form(**overrides):
     fields = {"claim_start": "2005-01", "claim_end": "2014-12", "claim_kind": "pause",
@@ -92,7 +64,7 @@ def test_plain_text_with_comment_lines_and_trailing_notes_is_read(client):
 
 
 def test_several_series_in_a_csv_choose_the_value_and_covariate_columns(client):
-    text = "\n".join(",".join(str(c) for c in row) for row in long_rows()) + "\n"
+    text = csv_of(long_rows())
     response = post(client, text, "weather.csv", annual_form(value_column="rain", covariate_columns="sunshine"),
                     "text/csv")
     assert response.status_code == 201, response.text
@@ -205,39 +177,10 @@ def test_a_formula_is_read_as_its_cached_value_and_a_markup_sheet_name_stays_tex
 
 # --- a link to the data --------------------------------------------------------------------------------------
 
-class DataHandler(http.server.BaseHTTPRequestHandler):
-    files: dict[str, tuple[str, bytes]] = {}
-
-    def log_message(self, *args) -> None:  # keep the test output clean
-        pass
-
-    def do_GET(self) -> None:  # noqa: N802 (the standard library's name)
-        if self.path == "/moved":
-            self.send_response(302)
-            self.send_header("Location", "/index.xlsx")
-            self.send_header("Content-Length", "0")
-            self.end_headers()
-            return
-        kind, body = self.files.get(self.path, ("text/plain", b"no"))
-        self.send_response(200 if self.path in self.files else 404)
-        self.send_header("Content-Type", kind)
-        self.send_header("Content-Length", str(len(body)))
-        self.end_headers()
-        self.wfile.write(body)
-
-
 @pytest.fixture()
 def data_server():
-    text = "\n".join(",".join(str(c) for c in row) for row in long_rows()) + "\n"
-    files = {"/weather.csv": ("text/csv", text.encode()), "/index.xlsx": (XLSX_TYPE, xlsx_bytes({"I": wide_rows()}))}
-    handler = type("Handler", (DataHandler,), {"files": files})
-    httpd = http.server.ThreadingHTTPServer(("127.0.0.1", 0), handler)
-    httpd.daemon_threads = True
-    thread = threading.Thread(target=httpd.serve_forever, kwargs={"poll_interval": 0.05}, daemon=True)
-    thread.start()
-    yield f"http://127.0.0.1:{httpd.server_address[1]}"
-    httpd.shutdown()
-    httpd.server_close()
+    with serving(newsroom_files()) as url:
+        yield url
 
 
 def link_body(url: str, **extra) -> dict:
