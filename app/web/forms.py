@@ -24,7 +24,8 @@ TEXT_FIELDS = ("table", "sample", "title", "label", "units", "time_column", "val
                "claim_end", "claim_kind", "reference_start", "reference_end", "confidence", "noise", "simulations",
                "seed", "rate_unit", "missing_sentinels", "source_name", "source_url", "source_notes",
                "covariate_max_lag", "check", "driver_column", "driver_label", "driver_units", "window_years",
-               "transform", "sheet", "header_row", "seasonal", "data_url", "file_data")
+               "transform", "sheet", "header_row", "seasonal", "data_url", "file_data",
+               "sheet_read")
 CONFIDENCE_CHOICES = ("0.9", "0.95", "0.99")
 TREND, LINK = "trend", "link"  # what the desk checks: a claim about one series' trend, or a driver and a response
 DEFAULT_WINDOW_YEARS = "15"
@@ -67,6 +68,7 @@ class DeskForm:
     seasonal: str = ""  # auto (empty), remove or keep
     data_url: str = ""  # "Link to the data": fetched by the service instead of an upload
     file_data: str = ""  # an uploaded spreadsheet, base64, carried from the preview to the audit
+    sheet_read: str = ""  # the sheet the chosen columns belong to: another sheet chosen starts them afresh
 
     @property
     def checks_link(self) -> bool:

@@ -30,8 +30,8 @@ from app.web.owners import created_redirect
 from app.web.periods import first_time_in, last_time_in
 from app.web.preview import PreviewView, preview_view
 from app.web.problems import ProblemView, problem_view
-from app.web.reading import (chosen_columns, ingest_options, links_to_data, posted_form, read_table, required,
-                             sample_filled, samples, table_text)
+from app.web.reading import (chosen_columns, columns_of_this_sheet, ingest_options, links_to_data, posted_form,
+                             read_table, required, sample_filled, samples, table_text)
 from app.web.responses import html, is_secure
 
 router = APIRouter(include_in_schema=False)
@@ -83,7 +83,7 @@ async def preview(request: Request) -> HTMLResponse:
 # Running the audit -----------------------------------------------------------------------------------
 
 def _job(form: DeskForm, filename: str | None, settings: Settings):
-    form = sample_filled(form, settings)
+    form = columns_of_this_sheet(sample_filled(form, settings))
     table, sample = read_table(form, settings)
     times = table.series.time
     check_string_lengths({"label": form.label, "units": form.units, "source_name": form.source_name,

@@ -98,6 +98,15 @@ def table_text(form: DeskForm, settings: Settings) -> tuple[str | bytes, dict[st
                          "of the samples")
 
 
+def columns_of_this_sheet(form: DeskForm) -> DeskForm:
+    """Columns chosen on one sheet mean nothing on another: when the person picks another sheet, its columns (and
+    its header row) are found afresh."""
+    if form.sheet_read and form.sheet != form.sheet_read:
+        return dataclasses.replace(form, time_column="", value_column="", driver_column="", covariate_columns=(),
+                                   header_row="", sheet_read=form.sheet)
+    return form
+
+
 def links_to_data(form: DeskForm) -> bool:
     return bool(form.data_url.strip()) and not (form.file_data or form.table.strip() or form.sample)
 
@@ -105,6 +114,7 @@ def links_to_data(form: DeskForm) -> bool:
 def read_table(form: DeskForm, settings: Settings) -> tuple[ParsedTable, dict[str, Any] | None]:
     """The table the form names, read as the service reads any file. Blocking (a link is fetched): run it in a
     worker thread."""
+    form = columns_of_this_sheet(form)
     if links_to_data(form):
         table, _provenance = read_source_url(form.data_url, ingest_options(form, settings, None), settings,
                                              field="data_url")
@@ -129,11 +139,12 @@ def chosen_columns(form: DeskForm, table: ParsedTable) -> DeskForm:
     The header row stays as the person typed it (empty: found again by the reader)."""
     extra = tuple(table.extra_columns)
     driver = form.driver_column if form.driver_column in extra else (extra[0] if extra else "")
+    form = columns_of_this_sheet(form)
     if table.layout != "long":  # a year-by-month table is found again when no column is named
         return dataclasses.replace(form, time_column="", value_column="", driver_column="", covariate_columns=(),
-                                   sheet=table.sheet or "")
+                                   sheet=table.sheet or "", sheet_read=table.sheet or "")
     return dataclasses.replace(form, time_column=table.time_column, value_column=table.value_column,
-                               driver_column=driver, sheet=table.sheet or "",
+                               driver_column=driver, sheet=table.sheet or "", sheet_read=table.sheet or "",
                                covariate_columns=tuple(c for c in form.covariate_columns if c in extra))
 
 
