@@ -5,16 +5,15 @@ data)."""
 from __future__ import annotations
 
 import io
-import re
 import time
-import zipfile
 
 import openpyxl
 import pytest
 
 from api.conftest import TEST_SIMULATIONS, assert_problem
 from api.newsroom_files import XLSX_TYPE, csv_of, level, long_rows, newsroom_files, serving, wide_rows
-from ingest.sheet_files import ods_bytes, ods_cell, ods_row, rewrite_member, xlsx_bytes
+from ingest.sheet_files import (encrypted_office_file, macro_only_workbook, ods_bytes, ods_cell, ods_entity_bomb,
+                                ods_row, xlsx_bytes, xlsx_declaring, zip_bomb)
 
 def monthly_form(**overrides):
     fields = {"claim_start": "2005-01", "claim_end": "2014-12", "claim_kind": "pause",
@@ -102,45 +101,14 @@ def test_json_options_choose_the_seasonal_treatment(client):
 
 # --- hostile spreadsheets, one of each kind, through the API ------------------------------------------------
 
-def zip_bomb() -> bytes:
-    out = io.BytesIO()
-    with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as archive:
-        archive.writestr("xl/workbook.xml", "<workbook/>")
-        archive.writestr("xl/worksheets/sheet1.xml", b"\0" * (20 * 1024 * 1024))
-    return out.getvalue()
-
-
-def xlsx_declaring(ref: str) -> bytes:
-    data = xlsx_bytes({"Data": [["year", "value"]] + [[1990 + i, 0.1 * i] for i in range(12)]})
-    return rewrite_member(data, "xl/worksheets/sheet1.xml",
-                          lambda xml: re.sub(r'<dimension ref="[^"]*"', f'<dimension ref="{ref}"', xml))
-
-
-def macro_only() -> bytes:
-    out = io.BytesIO()
-    with zipfile.ZipFile(out, "w") as archive:
-        archive.writestr("[Content_Types].xml", "<Types/>")
-        archive.writestr("xl/workbook.xml", "<workbook><sheets/></workbook>")
-        archive.writestr("xl/vbaProject.bin", b"\0" * 64)
-    return out.getvalue()
-
-
-def entity_bomb() -> bytes:
-    prolog = '<!DOCTYPE d [<!ENTITY a "aaaaaaaaaa"><!ENTITY b "&a;&a;&a;&a;&a;&a;&a;&a;&a;&a;">]>'
-    return ods_bytes({"S": [ods_row(["year", "value"]), "<table:table-row><table:table-cell><text:p>&b;</text:p>"
-                                                       "</table:table-cell></table:table-row>"]}, prolog=prolog)
-
-
 HOSTILE = [
     pytest.param(zip_bomb, 413, "times larger than it is packed", id="zip-bomb"),
     pytest.param(lambda: xlsx_declaring("A1:B1000000"), 413, "more than 200,000 rows", id="million-declared-rows"),
     pytest.param(lambda: ods_bytes({"S": [ods_row(["year", ods_cell("v", repeat=20_000)])]}), 413, "20,001 columns",
                  id="twenty-thousand-columns"),
-    # MS-OFFCRYPTO 2.3.4.4: an encrypted workbook is a compound file with an EncryptedPackage stream.
-    pytest.param(lambda: b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1" + b"\0" * 500 + "EncryptedPackage".encode("utf-16-le")
-                 + b"\0" * 500, 422, "encrypted", id="encrypted"),
-    pytest.param(macro_only, 422, "macros but no worksheet", id="macro-only"),
-    pytest.param(entity_bomb, 422, "constructs this service refuses", id="xml-entities"),
+    pytest.param(encrypted_office_file, 422, "encrypted", id="encrypted"),
+    pytest.param(macro_only_workbook, 422, "macros but no worksheet", id="macro-only"),
+    pytest.param(ods_entity_bomb, 422, "constructs this service refuses", id="xml-entities"),
 ]
 
 
