@@ -111,3 +111,14 @@ def test_the_home_page_offers_a_link_box_and_refuses_loopback_by_default(client)
 def test_a_csv_with_several_series_still_reads_as_before(client):
     page = client.post("/preview", data={"table": csv_of(long_rows())})
     assert page.status_code == 200 and "Columns of numbers" in page.text
+
+
+def test_a_driver_and_response_check_reads_a_spreadsheet_too(client):
+    data = xlsx_bytes({"Weather": long_rows()})
+    page = client.post("/preview", files={"file": ("w.xlsx", data, XLSX_TYPE)}, data={"check": "link"})
+    assert page.status_code == 200, page.text
+    answer = client.post("/correlate", data={"file_data": hidden(page.text, "file_data"), "value_column": "wind",
+                                             "driver_column": "rain", "seed": "3", "simulations": "200"})
+    stored = client.get("/api/v1/correlations/" + report_path(answer).rsplit("/", 1)[1]).json()
+    ingest_columns = (stored["inputs"].get("driver", {}).get("label"), stored["inputs"].get("response", {}).get("label"))
+    assert ingest_columns == ("rain", "wind"), stored["inputs"]
