@@ -184,9 +184,11 @@ def job_from_file(data: str | bytes | None, *, claim: Claim, options: AuditOptio
                   source: dict[str, Any] | None = None, filename: str | None = None,
                   covariate_columns: Sequence[str] = (), covariate_max_lag: int | None = None,
                   sheet: str | None = None, header_row: int | None = None, seasonal: str | None = AUTO,
-                  data_url: str | None = None, label: str = "", units: str = "") -> AuditJob:
+                  data_url: str | None = None, label: str = "", units: str = "",
+                  fetched: tuple[ParsedTable, dict[str, Any]] | None = None) -> AuditJob:
     """An uploaded file of any format this service reads (spreadsheet, CSV, plain text), or, with no file, the
-    one at ``data_url`` (the form field naming the link); ``covariate_columns`` names other numeric columns to adjust for (errors about them
+    one at ``data_url`` (the form field naming the link; ``fetched``, the table and provenance already read from
+    it, saves fetching it twice); ``covariate_columns`` names other numeric columns to adjust for (errors about them
     point at the fields ``covariate_columns`` and ``covariate_max_lag``)."""
     source = source or {}
     check_string_lengths({"title": title, "time_column": time_column, "value_column": value_column,
@@ -199,7 +201,8 @@ def job_from_file(data: str | bytes | None, *, claim: Claim, options: AuditOptio
                                    header_row=header_row, label=label, units=units)
     recorded: dict[str, Any] = {}
     if data is None and data_url:
-        table, recorded["provenance"] = read_source_url(data_url, ingest_options, settings, field="data_url")
+        table, recorded["provenance"] = fetched or read_source_url(data_url, ingest_options, settings,
+                                                                   field="data_url")
         raw = b""
         ingest = {"format": "link", "source_url": data_url, "content_sha256": recorded["provenance"]["sha256"]}
     else:

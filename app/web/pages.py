@@ -31,7 +31,7 @@ from app.web.periods import first_time_in, last_time_in
 from app.web.preview import PreviewView, preview_view
 from app.web.problems import ProblemView, problem_view
 from app.web.reading import (chosen_columns, columns_of_this_sheet, ingest_options, links_to_data, posted_form,
-                             read_table, required, sample_filled, samples, table_text)
+                             read_table, read_table_and_provenance, required, sample_filled, samples, table_text)
 from app.web.responses import html, is_secure
 
 router = APIRouter(include_in_schema=False)
@@ -84,7 +84,7 @@ async def preview(request: Request) -> HTMLResponse:
 
 def _job(form: DeskForm, filename: str | None, settings: Settings):
     form = columns_of_this_sheet(sample_filled(form, settings))
-    table, sample = read_table(form, settings)
+    table, sample, provenance = read_table_and_provenance(form, settings)
     times = table.series.time
     check_string_lengths({"label": form.label, "units": form.units, "source_name": form.source_name,
                           "source_url": form.source_url, "source_notes": form.source_notes},
@@ -107,7 +107,8 @@ def _job(form: DeskForm, filename: str | None, settings: Settings):
                          source=form.source(), filename=filename or (sample or {}).get("file"),
                          covariate_columns=form.covariate_columns, covariate_max_lag=form.covariate_lag(),
                          sheet=ingest.sheet, header_row=ingest.header_row, seasonal=form.seasonal or None,
-                         data_url=form.data_url.strip() if linked else None, label=ingest.label, units=ingest.units)
+                         data_url=form.data_url.strip() if linked else None, label=ingest.label, units=ingest.units,
+                         fetched=(table, provenance) if linked and provenance else None)
 
 
 async def run_desk_form(request: Request, *, check: str, make_job: Callable,

@@ -114,13 +114,20 @@ def links_to_data(form: DeskForm) -> bool:
 def read_table(form: DeskForm, settings: Settings) -> tuple[ParsedTable, dict[str, Any] | None]:
     """The table the form names, read as the service reads any file. Blocking (a link is fetched): run it in a
     worker thread."""
+    table, sample, _provenance = read_table_and_provenance(form, settings)
+    return table, sample
+
+
+def read_table_and_provenance(form: DeskForm, settings: Settings
+                              ) -> tuple[ParsedTable, dict[str, Any] | None, dict[str, Any] | None]:
+    """``read_table``, and where a linked file came from (None for an upload, a pasted table or a sample)."""
     form = columns_of_this_sheet(form)
     if links_to_data(form):
-        table, _provenance = read_source_url(form.data_url, ingest_options(form, settings, None), settings,
-                                             field="data_url")
-        return table, None
+        table, provenance = read_source_url(form.data_url, ingest_options(form, settings, None), settings,
+                                            field="data_url")
+        return table, None, provenance
     text, sample = table_text(form, settings)
-    return read_file(text, ingest_options(form, settings, sample), settings), sample
+    return read_file(text, ingest_options(form, settings, sample), settings), sample, None
 
 
 def with_upload(form: DeskForm, data: bytes | None) -> DeskForm:

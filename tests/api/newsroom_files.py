@@ -38,12 +38,23 @@ def long_rows() -> list[list]:
 
 
 class DataHandler(http.server.BaseHTTPRequestHandler):
+    """Serves ``files``; lists every path asked for in ``seen``; ``/held`` answers only once ``release`` is set
+    (after setting ``arrived``), so a test can look at the service while a fetch waits."""
+
     files: dict[str, tuple[str, bytes]] = {}
+    seen: list[str]
+    arrived: threading.Event
+    release: threading.Event
 
     def log_message(self, *args) -> None:  # keep the test output clean
         pass
 
     def do_GET(self) -> None:  # noqa: N802 (the standard library's name)
+        self.seen.append(self.path)
+        if self.path == "/held":
+            self.arrived.set()
+            self.release.wait(30)
+            self.path = "/weather.csv"
         if self.path == "/moved":
             self.send_response(302)
             self.send_header("Location", "/index.xlsx")
@@ -67,17 +78,29 @@ def csv_of(rows: list[list]) -> str:
     return "\n".join(",".join(str(c) for c in row) for row in rows) + "\n"
 
 
+class Served(str):
+    """The server's address, with what its handler saw and the events of ``/held``."""
+
+    seen: list[str]
+    arrived: threading.Event
+    release: threading.Event
+
+
 @contextlib.contextmanager
-def serving(files: dict[str, tuple[str, bytes]]) -> Iterator[str]:
+def serving(files: dict[str, tuple[str, bytes]]) -> Iterator[Served]:
     """A local HTTP server on loopback serving ``files`` (path to content type and bytes); yields its address."""
-    handler = type("Handler", (DataHandler,), {"files": files})
+    state = {"files": files, "seen": [], "arrived": threading.Event(), "release": threading.Event()}
+    handler = type("Handler", (DataHandler,), state)
     httpd = http.server.ThreadingHTTPServer(("127.0.0.1", 0), handler)
     httpd.daemon_threads = True
     thread = threading.Thread(target=httpd.serve_forever, kwargs={"poll_interval": 0.05}, daemon=True)
     thread.start()
+    address = Served(f"http://127.0.0.1:{httpd.server_address[1]}")
+    address.seen, address.arrived, address.release = state["seen"], state["arrived"], state["release"]
     try:
-        yield f"http://127.0.0.1:{httpd.server_address[1]}"
+        yield address
     finally:
+        address.release.set()
         httpd.shutdown()
         httpd.server_close()
 

@@ -5,6 +5,7 @@ data)."""
 from __future__ import annotations
 
 import io
+import threading
 import time
 
 import openpyxl
@@ -197,6 +198,24 @@ def test_refused_links_are_4xx_problems_naming_source_url(make_client, data_serv
     assert 400 <= response.status_code < 500, response.text
     body = response.json()
     assert body["where"]["field"] == "source_url" and fragment in body["detail"], body
+
+
+def test_a_fetch_waiting_on_a_slow_server_never_blocks_the_event_loop(make_client, data_server):
+    client = make_client(fetch_allow_http=True, fetch_allow_loopback=True)
+    answers = []
+    posting = threading.Thread(target=lambda: answers.append(
+        client.post("/api/v1/audits", json=link_body(f"{data_server}/held"))))
+    posting.start()
+    try:
+        assert data_server.arrived.wait(30), "the fetch never reached the server"
+        # The fetch now waits for its answer; the loop still answers other requests (were it blocked, this would
+        # come only after the audit, and "answers" would not be empty).
+        assert client.get("/healthz").status_code == 200
+        assert not answers
+    finally:
+        data_server.release.set()
+        posting.join(60)
+    assert answers and answers[0].status_code == 201, answers
 
 
 def test_neither_a_series_nor_a_link_is_a_problem(client):

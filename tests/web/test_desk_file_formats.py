@@ -98,6 +98,7 @@ def test_a_link_to_the_data_is_read_and_its_provenance_shown(linking_client):
         assert page.status_code == 200, page.text
         assert hidden(page.text, "data_url") == url
         answer = linking_client.post("/audit", data={**ANNUAL_CLAIM, "data_url": url, "value_column": "rain"})
+        assert address.seen == ["/weather.csv", "/weather.csv"]  # once for the preview, once for the audit
     report = linking_client.get(report_path(answer)).text
     assert "Fetched from" in report and url in report and "HTTP 200" in report
 
