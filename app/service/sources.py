@@ -15,6 +15,7 @@ from typing import Any
 from app.errors import ClaimError, InputError, Location
 from app.ingest import (FetchPolicy, IngestOptions, ParsedTable, ReadLimits, Series, deseasonalise, read_link,
                         read_upload, seasonal_cycle)
+from app.ingest.sampling import PERIODS_PER_YEAR
 from app.settings import Settings
 
 SOURCE_URL_FIELD = "source_url"
@@ -92,7 +93,8 @@ def with_seasonal_choice(series: Series, choice: str, reference: tuple[float, fl
     choice = check_seasonal_choice(choice, field)
     record: dict[str, Any] = {"choice": choice, "tested": False, "present": None, "removed": False,
                               "reference": None, "sentence": ""}
-    if series.sampling not in ("monthly", "quarterly") or series.n < 2 * 12 + 2:
+    periods = PERIODS_PER_YEAR.get(series.sampling)
+    if series.sampling not in ("monthly", "quarterly") or series.n < 2 * periods + 2:
         if choice == REMOVE:
             raise ClaimError(f"a seasonal cycle can be taken out of monthly or quarterly data with two full years "
                              f"or more; this series is {series.sampling} with {series.n} values",

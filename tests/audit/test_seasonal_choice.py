@@ -1,0 +1,43 @@
+"""The seasonal choice every door shares: auto takes a cycle out only when the test finds one, remove always,
+keep never; what was done is recorded with the sentence the report shows. Invented series, fixed seeds."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from app.errors import ClaimError
+from app.ingest import IngestOptions, series_from_arrays
+from app.service.sources import climatology_period, with_seasonal_choice
+
+
+def quarterly(seed: int, cycle: float, years: int = 30):
+    rng = np.random.default_rng(seed)
+    quarters = np.arange(4 * years)
+    values = 0.01 * quarters + 0.2 * rng.standard_normal(quarters.size) + cycle * np.cos(np.pi * quarters / 2)
+    times = [f"{1990 + q // 4}-Q{q % 4 + 1}" for q in quarters]
+    return series_from_arrays(times, [round(float(v), 5) for v in values], IngestOptions(), field="series")
+
+
+@pytest.mark.parametrize("choice, cycle, removed", [("auto", 1.0, True), ("auto", 0.0, False),
+                                                    ("remove", 0.0, True), ("keep", 1.0, False)])
+def test_each_choice_on_a_quarterly_series(choice, cycle, removed):
+    series = quarterly(11, cycle)
+    result, record = with_seasonal_choice(series, choice, climatology_period(series, None, None))
+    assert record["tested"] and record["removed"] is removed and record["present"] is (cycle > 0)
+    assert record["sentence"]
+    quarter_means = [result.value[q::4].mean() for q in range(4)]
+    spread = max(quarter_means) - min(quarter_means)
+    assert (spread < 0.3) if removed else (spread > 1.0 or cycle == 0)
+
+
+def test_an_annual_series_is_left_alone_and_remove_is_refused():
+    series = series_from_arrays(list(range(1950, 2000)), [0.01 * i for i in range(50)], IngestOptions(),
+                                field="series")
+    same, record = with_seasonal_choice(series, "auto", (1950.0, 2000.0))
+    assert same is series and not record["tested"] and record["sentence"] == ""
+    with pytest.raises(ClaimError, match="monthly or quarterly"):
+        with_seasonal_choice(series, "remove", (1950.0, 2000.0))
+    with pytest.raises(ClaimError, match="not a way to treat"):
+        with_seasonal_choice(series, "sometimes", (1950.0, 2000.0))
+
