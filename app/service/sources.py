@@ -107,12 +107,12 @@ def with_seasonal_choice(series: Series, choice: str, reference: tuple[float, fl
     if choice == KEEP or (choice == AUTO and not cycle.present):
         found = "A seasonal cycle was found" if cycle.present else "No seasonal cycle that matters was found"
         kept = "kept, as asked, so the ranges include it" if choice == KEEP else "so the series was audited as given"
-        record["sentence"] = f"{found} ({cycle.size:.2f} times the noise); {kept}."
+        record["sentence"] = f"{found} ({cycle.size:.2g} times the noise); {kept}."
         return series, record
     result = deseasonalise(series, reference)
     record.update(removed=True, reference=list(reference),
                   sentence=(f"{'A' if cycle.present else 'As asked, any'} seasonal cycle (range {cycle.amplitude:.3g}"
-                            f"{' ' + series.units if series.units else ''}, {cycle.size:.2f} times the noise) was "
+                            f"{' ' + series.units if series.units else ''}, {cycle.size:.2g} times the noise) was "
                             f"taken out: the audit used anomalies from each {period}'s mean over "
                             f"{reference[0]:g} to {reference[1] - 1:g}."))
     return result, record

@@ -200,6 +200,17 @@ def test_refused_links_are_4xx_problems_naming_source_url(make_client, data_serv
     assert body["where"]["field"] == "source_url" and fragment in body["detail"], body
 
 
+def test_the_multipart_form_takes_a_link_instead_of_a_file(make_client, data_server):
+    client = make_client(fetch_allow_http=True, fetch_allow_loopback=True)
+    response = client.post("/api/v1/audits", data=monthly_form(data_url=f"{data_server}/index.xlsx"),
+                           files={"unused": ("x.txt", b"", "text/plain")})
+    assert response.status_code == 201, response.text
+    assert response.json()["inputs"]["provenance"]["final_url"] == f"{data_server}/index.xlsx"
+    refused = make_client().post("/api/v1/audits", data=monthly_form(data_url="https://10.0.0.1/x.csv"),
+                                 files={"unused": ("x.txt", b"", "text/plain")})
+    assert_problem(refused, 422, "data_url")
+
+
 def test_a_fetch_waiting_on_a_slow_server_never_blocks_the_event_loop(make_client, data_server):
     client = make_client(fetch_allow_http=True, fetch_allow_loopback=True)
     answers = []
