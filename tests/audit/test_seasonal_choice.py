@@ -41,3 +41,27 @@ def test_an_annual_series_is_left_alone_and_remove_is_refused():
     with pytest.raises(ClaimError, match="not a way to treat"):
         with_seasonal_choice(series, "sometimes", (1950.0, 2000.0))
 
+
+
+def test_an_invented_ridership_series_gives_sane_what_would_change_figures_by_default():
+    # Invented monthly ridership (thousands): a slow rise, a summer peak ten times the noise, AR(1) noise.
+    from app.service.audits import audit_options, compute_document, job_from_file, make_claim
+    from app.settings import Settings
+
+    rng = np.random.default_rng(2026)
+    months = np.arange(12 * 25)
+    noise = np.zeros(months.size)
+    shocks = 20 * rng.standard_normal(months.size)
+    for i in range(1, months.size):
+        noise[i] = 0.5 * noise[i - 1] + shocks[i]
+    riders = 5000 + 2.0 * months + 600 * np.cos(2 * np.pi * (months % 12 - 6) / 12) + noise
+    text = "month,riders\n" + "".join(f"{2000 + m // 12}-{m % 12 + 1:02d},{r:.1f}\n" for m, r in zip(months, riders))
+    settings = Settings(database_url="sqlite://")
+    job = job_from_file(text, claim=make_claim("2016-01", "2019-12", "slowdown"),
+                        options=audit_options({"seed": 4}, settings), settings=settings)
+    document = compute_document(job)
+    assert document["inputs"]["seasonal"]["removed"]
+    low, high = document["window"]["ci"]
+    slopes = [v for row in document["cherry_pick"]["slopes"] for v in row if v is not None]
+    reach = 3 * max(abs(low), abs(high))  # our requirement: within a factor of 3 of the window's own range
+    assert -reach <= min(slopes) and max(slopes) <= reach
