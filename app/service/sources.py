@@ -109,7 +109,12 @@ def with_seasonal_choice(series: Series, choice: str, reference: tuple[float, fl
         kept = "kept, as asked, so the ranges include it" if choice == KEEP else "so the series was audited as given"
         record["sentence"] = f"{found} ({cycle.size:.2g} times the noise); {kept}."
         return series, record
-    result = deseasonalise(series, reference)
+    try:
+        result = deseasonalise(series, reference)
+    except ClaimError as error:  # the reference period misses a calendar month: say so where the choice was made
+        raise ClaimError(f"the seasonal cycle cannot be taken out: {error.message}", location=Location(field=field),
+                         fix="Widen the reference period so that every calendar month has values, or keep the "
+                             "cycle") from None
     record.update(removed=True, reference=list(reference),
                   sentence=(f"{'A' if cycle.present else 'As asked, any'} seasonal cycle (range {cycle.amplitude:.3g}"
                             f"{' ' + series.units if series.units else ''}, {cycle.size:.2g} times the noise) was "

@@ -65,3 +65,10 @@ def test_an_invented_ridership_series_gives_sane_what_would_change_figures_by_de
     slopes = [v for row in document["cherry_pick"]["slopes"] for v in row if v is not None]
     reach = 3 * max(abs(low), abs(high))  # our requirement: within a factor of 3 of the window's own range
     assert -reach <= min(slopes) and max(slopes) <= reach
+
+
+def test_a_reference_period_missing_a_season_is_refused_naming_the_choice():
+    series = quarterly(11, 1.0)
+    with pytest.raises(ClaimError, match="cannot be taken out") as caught:
+        with_seasonal_choice(series, "remove", (2030.0, 2031.0), field="options.seasonal")
+    assert caught.value.location.field == "options.seasonal"
