@@ -18,6 +18,7 @@ from typing import Any, Sequence
 from app import __version__
 from app.audit.claim import NOISE_MODELS, RATE_UNITS
 from app.errors import InputError
+from app.service.sources import SEASONAL_CHOICES
 from app.stats.correlate import TRANSFORMS
 from app.vocabulary import CLAIM_KINDS
 
@@ -61,7 +62,8 @@ def _parser() -> argparse.ArgumentParser:
     serve.add_argument("--workers", type=int, default=1, help="server processes sharing one database")
 
     audit = commands.add_parser("audit", help="audit a CSV file and print the result")
-    audit.add_argument("file", type=Path, help="CSV with a time column and a value column")
+    audit.add_argument("file", type=Path, help="the data: CSV, plain text (space-separated, comment lines on top), "
+                       ".xlsx or .ods; a time column and value columns, or one row per year with a column per month")
     audit.add_argument("--start", help="start of the claimed window, in any time form the data accept: a whole "
                        "year, quarter or month (1998, 2016-Q1, 2016-01) begins at its first instant; a decimal year "
                        "(1998.25) is an instant. Read from --claim-text when absent")
@@ -74,6 +76,11 @@ def _parser() -> argparse.ArgumentParser:
                        "(an ENSO index, volcanic aerosol...); the adjusted series is audited too")
     audit.add_argument("--max-lag", type=int, help="largest lag tried for each covariate, in steps of the series "
                        "(default two years)")
+    audit.add_argument("--sheet", help="the spreadsheet's sheet to read (default: the first holding a table)")
+    audit.add_argument("--header-row", type=int, help="the row naming the columns, from 1 (found when absent)")
+    audit.add_argument("--seasonal", choices=SEASONAL_CHOICES, default="auto",
+                       help="a monthly or quarterly series' seasonal cycle: auto (taken out when found, the "
+                            "default), remove, keep")
     _shared_options(audit)
 
     correlate = commands.add_parser("correlate", help="audit a driver-response pair of columns of a CSV file")
@@ -186,7 +193,7 @@ def _claim(args: argparse.Namespace, record, data: bytes, settings):
 
 def audit(args: argparse.Namespace) -> int:
     from app.service.covariates import column_names
-    from app.service.audits import audit_options, compute_document, job_from_csv
+    from app.service.audits import audit_options, compute_document, job_from_file
     from app.settings import Settings
 
     settings = Settings()
@@ -197,10 +204,11 @@ def audit(args: argparse.Namespace) -> int:
         options = audit_options({"confidence": args.confidence, "noise": args.noise, "rate_unit": args.rate_unit,
                                  "simulations": args.simulations, "seed": args.seed}, settings)
         claim = _claim(args, _claim_record(args, settings), data, settings)
-        job = job_from_csv(data, claim=claim, options=options,
-                           settings=settings, title=args.title, time_column=args.time_column,
-                           value_column=args.value_column, filename=args.file.name,
-                           covariate_columns=column_names([args.covariates]), covariate_max_lag=args.max_lag)
+        job = job_from_file(data, claim=claim, options=options,
+                            settings=settings, title=args.title, time_column=args.time_column,
+                            value_column=args.value_column, filename=args.file.name,
+                            covariate_columns=column_names([args.covariates]), covariate_max_lag=args.max_lag,
+                            sheet=args.sheet, header_row=args.header_row, seasonal=args.seasonal)
         document = compute_document(job)
     except InputError as error:
         return _refuse(args.file, error)

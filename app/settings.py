@@ -62,6 +62,13 @@ class Settings(BaseSettings):
 
     samples_dir: Path = PROJECT_ROOT / "sample_series"
 
+    # Data fetched from a link the user gives (app.ingest.fetch): https only unless http is allowed; loopback
+    # only for tests against a local server, never in a deployment.
+    fetch_allow_http: bool = False
+    fetch_allow_loopback: bool = False
+    fetch_max_bytes: int = 20 * 1024 * 1024
+    fetch_timeout_seconds: float = 30.0
+
     @field_validator("api_keys")
     @classmethod
     def _strip(cls, value: str) -> str:

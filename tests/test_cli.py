@@ -83,11 +83,32 @@ def test_unreadable_file_exits_2(tmp_path, capsys):
     assert "cannot read" in capsys.readouterr().err
 
 
-def test_file_that_is_not_csv_exits_2(tmp_path, capsys):
+def test_a_damaged_spreadsheet_exits_2(tmp_path, capsys):
     path = tmp_path / "book.xlsx"
     path.write_bytes(b"PK\x03\x04" + bytes(100))
     assert main(["audit", str(path), *AUDIT_ARGS]) == EXIT_INPUT_ERROR
-    assert "CSV" in capsys.readouterr().err
+    assert "damaged zip" in capsys.readouterr().err
+
+
+def test_a_wide_spreadsheet_is_audited_from_its_chosen_sheet(tmp_path, capsys):
+    import openpyxl
+
+    book = openpyxl.Workbook()
+    book.active.title = "Notes"
+    book.active.append(["Nothing to read here"])
+    sheet = book.create_sheet("Monthly")
+    sheet.append(["Invented monthly rainfall, by year"])
+    sheet.append(["year", "Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"])
+    for year in range(1990, 2020):
+        sheet.append([year] + [round(0.01 * (year - 1990) + 0.3 * ((year * 12 + m) * 7919 % 11) / 11, 3)
+                               for m in range(12)])
+    path = tmp_path / "rain.xlsx"
+    book.save(path)
+    assert main(["audit", str(path), "--start", "2005-01", "--end", "2014-12", "--sheet", "Monthly",
+                 "--simulations", "200", "--seed", "3", "--json"]) == 0
+    document = json.loads(capsys.readouterr().out)
+    assert document["inputs"]["sheet"] == "Monthly" and document["inputs"]["layout"] == "year-by-month"
+    assert document["inputs"]["sampling"] == "monthly" and document["inputs"]["n"] == 360
 
 
 def test_missing_required_option_is_a_usage_error(csv_file, capsys):

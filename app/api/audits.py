@@ -42,12 +42,15 @@ async def job_from_request(request: Request, settings: Settings) -> AuditJob:
         async with request.form(max_files=1, max_fields=60) as form:
             upload = form.get("file")
             if not isinstance(upload, UploadFile):
-                raise SeriesFormatError("no CSV file in the field 'file'", location=Location(field="file"),
-                                        fix="Attach the CSV as the form field 'file'")
+                if isinstance(form.get("data_url"), str) and form.get("data_url").strip():
+                    return await run_in_threadpool(job_from_form, form, None, None, settings)
+                raise SeriesFormatError("no data file in the field 'file'", location=Location(field="file"),
+                                        fix="Attach the file (CSV, text, .xlsx or .ods) as the form field 'file', "
+                                            "or give a link to it as 'data_url'")
             data = await upload.read()
             return await run_in_threadpool(job_from_form, form, data, upload.filename, settings)
     raise UnsupportedMediaType(f"the body is '{kind or 'untyped'}'", location=Location(field="Content-Type"),
-                               fix="Send application/json, or multipart/form-data with the CSV in the field 'file'")
+                               fix="Send application/json, or multipart/form-data with the file in the field 'file'")
 
 
 def _job_from_json_bytes(raw: bytes, settings: Settings) -> AuditJob:

@@ -87,6 +87,11 @@ class OptionsIn(_Strict):
                                                                      "written like a window edge")
     reference_end: Edge | None = Field(default=None, description="End of the long-term reference period")
     rate_unit: RateUnit | None = Field(default=None, description="How slopes are worded for readers")
+    seasonal: Literal["auto", "remove", "keep"] = Field(
+        default="auto", description="A monthly or quarterly series' seasonal cycle: 'auto' takes it out (anomalies "
+                                    "from each calendar month's mean over the reference period) when a test finds "
+                                    "one, 'remove' always, 'keep' never; the answer's inputs.seasonal says what "
+                                    "was done")
 
 
 class IngestIn(_Strict):
@@ -96,6 +101,14 @@ class IngestIn(_Strict):
         default=None, description="Subtract a per-month climatology over [start, end), decimal years")
     annual_means: bool = Field(default=False, description="Average monthly data into calendar years first")
     min_months_per_year: int | None = Field(default=None, description="Months a year needs for an annual mean")
+    time_column: str | None = Field(default=None, description="With source_url: the time column; detected when "
+                                                               "absent")
+    value_column: str | None = Field(default=None, description="With source_url: the column to audit, by name; "
+                                                                "detected when absent")
+    sheet: str | None = Field(default=None, description="With source_url to a spreadsheet: the sheet to read; by "
+                                                         "default the first that holds a table")
+    header_row: int | None = Field(default=None, ge=1, description="With source_url: the row naming the columns "
+                                                                     "(from 1); found by default")
 
 
 class SourceIn(_Strict):
@@ -120,7 +133,13 @@ COVARIATES_HELP = (f"Known factors to take out (up to {MAX_COVARIATES}): series 
 
 class AuditRequest(_Strict):
     title: str = Field(default="", description="A name for the audit, shown on its report")
-    series: SeriesIn
+    series: SeriesIn | None = Field(default=None, description="The data; leave out to fetch them from source_url")
+    source_url: str | None = Field(
+        default=None, description="When no series is given: a link to a CSV, text or spreadsheet file (https), "
+                                  "fetched by the service; where it came from (final address, time, HTTP status, "
+                                  "size, SHA-256) is kept in the answer's inputs.provenance")
+    covariate_columns: list[str] = Field(default_factory=list, description="With source_url: other numeric columns "
+                                         "of the linked file to adjust for, by name")
     claim: ClaimIn
     options: OptionsIn = Field(default_factory=OptionsIn)
     covariates: list[CovariateIn] = Field(default_factory=list, description=COVARIATES_HELP + " The answer then "
@@ -151,7 +170,9 @@ class AuditRequest(_Strict):
 class MultipartAuditForm(BaseModel):
     """The multipart/form-data form of POST /api/v1/audits (documentation only; the JSON names are reused)."""
 
-    file: bytes = Field(description="The CSV file", json_schema_extra={"format": "binary"})
+    file: bytes = Field(description="The data file: CSV, plain text (columns separated by spaces, comment lines "
+                                    "on top), .xlsx or .ods, long or year-by-month",
+                        json_schema_extra={"format": "binary"})
     title: str | None = None
     claim_start: str = Field(description="Start of the claimed window: " + CLAIM_TIME_HELP)
     claim_end: str = Field(description="End of the claimed window: " + CLAIM_TIME_HELP)
@@ -164,7 +185,12 @@ class MultipartAuditForm(BaseModel):
     label: str | None = Field(default=None, description="What the series measures (the column name when absent)")
     units: str | None = Field(default=None, description="Units of the values")
     time_column: str | None = Field(default=None, description="Detected when absent")
-    value_column: str | None = Field(default=None, description="Detected when absent")
+    value_column: str | None = Field(default=None, description="The column to audit, by name; detected when absent")
+    sheet: str | None = Field(default=None, description="A spreadsheet's sheet; the first holding a table by default")
+    header_row: int | None = Field(default=None, description="The row naming the columns (from 1); found by default")
+    seasonal: Literal["auto", "remove", "keep"] = Field(default="auto", description="As in the JSON options")
+    data_url: str | None = Field(default=None, description="Instead of a file: a link to the data, fetched by the "
+                                                           "service")
     confidence: float | None = None
     noise: AuditNoise | None = None
     simulations: int | None = None

@@ -33,7 +33,7 @@ from app.report.chart_sets import AUDIT_CHARTS, ChartSet
 from app.report.figures import as_inline, as_standalone, labelled_svg, png_bytes
 
 # Bump when a chart's drawing changes without a release, so kept charts are drawn again.
-CHART_REVISION = 1
+CHART_REVISION = 2
 CHART_RENDERER = f"{__version__}+charts{CHART_REVISION}"
 CACHE_ENTRIES = 600  # entries are a record's chart set or one chart file; an SVG is 20-150 kB
 FORMATS = ("inline", "svg", "png")

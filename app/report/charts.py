@@ -182,11 +182,23 @@ def _null_description(doc: dict[str, Any]) -> str:
 # 3. Start/end sensitivity: the trend of every nearby window.
 
 def _centred_norm(values: np.ndarray, centre: float) -> Normalize:
-    finite = values[np.isfinite(values)]
+    """Colours centred on ``centre``, reaching as far as the windows near the claimed one (the middle half of the
+    matrix each way) go: a few short windows at the corners would otherwise wash every other cell out to the
+    centre colour. Cells beyond take the end colours."""
+    finite = near_claimed(values)
+    finite = finite[np.isfinite(finite)]
     if finite.size == 0 or not math.isfinite(centre):
         return Normalize()
     reach = float(np.max(np.abs(finite - centre))) or 1e-12
     return Normalize(centre - reach, centre + reach)
+
+
+def near_claimed(values: np.ndarray) -> np.ndarray:
+    """The cells whose start and end both lie within half the matrix's reach of the claimed (centre) cell."""
+    rows, columns = values.shape
+    row_reach, column_reach = rows // 4, columns // 4
+    return values[rows // 2 - row_reach:rows // 2 + row_reach + 1,
+                  columns // 2 - column_reach:columns // 2 + column_reach + 1]
 
 
 def _cell_ticks(set_ticks, centres: np.ndarray, doc: dict[str, Any]) -> None:

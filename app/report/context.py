@@ -125,6 +125,7 @@ class ReportContext:
     ingest_notes: tuple[str, ...]
     links: Links
     created_at: str
+    seasonal_sentence: str = ""  # what was done about a seasonal cycle, said beside the verdict
 
 
 def safe_href(url: str | None) -> str | None:
@@ -294,7 +295,30 @@ def _provenance(record_id: str, title: str, doc: dict[str, Any], source: SourceV
         ProvenanceRow("Created", created),
         ProvenanceRow("Audit id", record_id, code=True),
     ]
-    return tuple(rows)
+    return tuple(rows[:5] + _read_rows(inputs) + rows[5:])
+
+
+def _read_rows(inputs: dict[str, Any]) -> list[ProvenanceRow]:
+    """How the file was read (sheet, column, layout), where a link's data came from, and the seasonal cycle."""
+    rows = []
+    if inputs.get("value_column"):
+        where = f"“{inputs['value_column']}”"
+        if inputs.get("sheet"):
+            where += f", sheet “{inputs['sheet']}”"
+        if inputs.get("layout") and inputs["layout"] != "long":
+            where += f", read as a {inputs['layout']} table"
+        rows.append(ProvenanceRow("Column audited", where))
+    fetched = inputs.get("provenance") or {}
+    if fetched:
+        rows += [ProvenanceRow("Fetched from", str(fetched.get("url", ""))),
+                 ProvenanceRow("Final address", str(fetched.get("final_url", ""))),
+                 ProvenanceRow("Retrieved", f"{fetched.get('retrieved_at')} (HTTP {fetched.get('status')}, "
+                                            f"{fetched.get('size', 0):,} bytes)"),
+                 ProvenanceRow("File hash (SHA-256 of the bytes fetched)", str(fetched.get("sha256", "")), code=True)]
+    seasonal = inputs.get("seasonal") or {}
+    if seasonal.get("sentence"):
+        rows.append(ProvenanceRow("Seasonal cycle", seasonal["sentence"]))
+    return rows
 
 
 def report_context(*, audit_id: str, title: str, created_at: Any, document: dict[str, Any],
@@ -337,4 +361,5 @@ def report_context(*, audit_id: str, title: str, created_at: Any, document: dict
         links=Links(permalink=permalink or f"{base}/audits/{audit_id}", json=f"/api/v1/audits/{audit_id}",
                     csv=f"/api/v1/audits/{audit_id}/data.csv", delete=f"/audits/{audit_id}/delete"),
         created_at=created,
+        seasonal_sentence=str(_get(doc, "inputs", "seasonal", "sentence", default="") or ""),
     )

@@ -11,20 +11,22 @@ from __future__ import annotations
 import dataclasses
 import hashlib
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, Sequence
 
 from app import __version__
 from app.audit import AuditOptions, Claim, audit_document, run_audit
 from app.audit.claim import check_claim, check_options
-from app.errors import InputError
-from app.ingest import IngestOptions, Series, check_window_in_series, read_csv_text, series_from_json
+from app.errors import ClaimError, InputError, Location
+from app.ingest import IngestOptions, ParsedTable, Series, check_window_in_series, series_from_json
 from app.service.claims import (ClaimInput, ClaimRecord, claim_record, derived_seed, edge_instant, listed_claim,
                                  resolved_claim, search_text, window_echo)
 from app.service.covariates import (FORM_COVARIATE_FIELDS, CovariateSeries, check_lag_cells, covariate_payload,
                                     covariates_from_json, covariates_from_table)
 from app.service.limits import check_string_lengths, check_work
 from app.service.payloads import series_payload
+from app.service.sources import (AUTO, climatology_period, read_file, read_source_url, table_inputs,
+                                 with_seasonal_choice)
 from app.settings import Settings
 from app.store import AUDIT, AuditRecord, AuditRepository, NewAudit
 
@@ -41,6 +43,9 @@ class AuditJob:
     window: dict[str, Any] = dataclasses.field(default_factory=dict)  # the edges as given and as resolved
     # (pattern, field): errors the computation raises about a field matching the pattern name this field instead
     field_names: tuple[tuple[str, str], ...] = ()
+    # How the series was read and prepared (value column, link provenance, seasonal cycle): added to the
+    # result document's ``inputs`` so the report and the JSON answer say it.
+    recorded_inputs: dict[str, Any] = field(default_factory=dict)
 
 
 def with_defaults(values: dict[str, Any], settings: Settings) -> dict[str, Any]:
@@ -52,7 +57,9 @@ def with_defaults(values: dict[str, Any], settings: Settings) -> dict[str, Any]:
 
 def audit_options(values: dict[str, Any], settings: Settings, prefix: str = "options.") -> AuditOptions:
     """Options from the request, with the service's defaults for what was left out; checked. The reference
-    period's edges mean what a window's edges mean."""
+    period's edges mean what a window's edges mean; the seasonal choice travels beside the options
+    (``prepare_job``), not in them."""
+    values = {k: v for k, v in values.items() if k != "seasonal"}
     values = {**values, **{f"reference_{role}": claim_time(values[f"reference_{role}"],
                                                            f"{prefix}reference_{role}", role)
                            for role in ("start", "end") if values.get(f"reference_{role}") is not None}}
@@ -76,9 +83,16 @@ def default_title(series: Series, claim: Claim, window: dict[str, Any]) -> str:
 
 def prepare_job(*, title: str, series: Series, claim: ClaimInput, options: AuditOptions, source: dict[str, Any],
                 ingest: dict[str, Any], settings: Settings, covariates: Sequence[CovariateSeries] = (),
-                covariate_fields: Sequence[str] = (), field_names: tuple[tuple[str, str], ...] = ()) -> AuditJob:
+                covariate_fields: Sequence[str] = (), field_names: tuple[tuple[str, str], ...] = (),
+                seasonal: str | None = AUTO, seasonal_field: str = "seasonal",
+                recorded_inputs: dict[str, Any] | None = None) -> AuditJob:
+    """``series`` as read; a seasonal cycle is taken out (or kept) here, so every door treats it alike."""
     resolved = resolved_claim(claim, series)
     check_claim(resolved)
+    as_read = series
+    series, seasonal_record = with_seasonal_choice(
+        series, seasonal or AUTO, climatology_period(series, options.reference_start, options.reference_end),
+        seasonal_field)
     check_window_in_series(series, resolved.start, resolved.end)
     check_work(series.n, options.simulations, settings.max_simulated_points)
     check_lag_cells(series, covariates, covariate_fields or [f"covariates[{i}].max_lag" for i in range(len(covariates))])
@@ -93,7 +107,8 @@ def prepare_job(*, title: str, series: Series, claim: ClaimInput, options: Audit
             {k: v for k, v in dataclasses.asdict(options).items() if k != "seed"}, covariate_payloads))
     document = {
         "format": ingest.get("format"),
-        "series": series_payload(series),
+        "series": series_payload(as_read),
+        "seasonal": seasonal_record["choice"],
         # start and end as audited (instants), beside the edges as given and who claimed it, where and when
         "claim": {**dataclasses.asdict(resolved), "start_given": claim.start, "end_given": claim.end,
                   **claim.record.as_dict()},
@@ -105,7 +120,10 @@ def prepare_job(*, title: str, series: Series, claim: ClaimInput, options: Audit
     }
     return AuditJob(title=title, series=series, claim=resolved, options=options, input_document=document,
                     covariates=tuple(covariates), field_names=field_names, record=claim.record,
-                    window=window)
+                    window=window,
+                    recorded_inputs={**(recorded_inputs or {}),
+                                     # a series with no seasons to test keeps the plain document
+                                     **({"seasonal": seasonal_record} if seasonal_record["tested"] else {})})
 
 
 def string_times(times: Sequence[Any], field: str) -> dict[str, str]:
@@ -118,59 +136,100 @@ def job_from_json(request: Any, settings: Settings) -> AuditJob:
     covariate_texts = {}
     for i, cov in enumerate(request.covariates):
         covariate_texts.update({f"covariates[{i}].name": cov.name, **string_times(cov.time, f"covariates[{i}].time")})
-    check_string_lengths({"title": request.title, "series.label": request.series.label,
-                          "series.units": request.series.units, "source.name": request.source.name,
+    series_in = request.series
+    check_string_lengths({"title": request.title, "series.label": series_in and series_in.label,
+                          "series.units": series_in and series_in.units, "source.name": request.source.name,
                           "source.url": request.source.url, "source.notes": request.source.notes,
-                          **string_times(request.series.time, "series.time"), **covariate_texts},
+                          "source_url": request.source_url, "ingest.sheet": request.ingest.sheet,
+                          "ingest.value_column": request.ingest.value_column,
+                          "ingest.time_column": request.ingest.time_column,
+                          **{f"covariate_columns[{i}]": name for i, name in enumerate(request.covariate_columns)},
+                          **(string_times(series_in.time, "series.time") if series_in else {}), **covariate_texts},
                          settings.max_string_length)
     ingest_values = request.ingest.model_dump()
     ingest_options = IngestOptions(
+        time_column=ingest_values["time_column"], value_column=ingest_values["value_column"],
+        sheet=ingest_values["sheet"], header_row=ingest_values["header_row"],
         decimal_comma=ingest_values["decimal_comma"],
         missing_sentinels=tuple(ingest_values["missing_sentinels"]),
         anomaly_base=ingest_values["anomaly_base"], annual_means=ingest_values["annual_means"],
         max_points=settings.max_points,
         **({"min_months_per_year": ingest_values["min_months_per_year"]}
            if ingest_values["min_months_per_year"] is not None else {}))
-    series = series_from_json(request.series.model_dump(exclude_none=True), ingest_options, field="series")
     options = audit_options(request.options.model_dump(), settings)
     claim = ClaimInput(kind=request.claim.kind, start=request.claim.start, end=request.claim.end,
                        record=claim_record(request.claim.model_dump(), settings.max_string_length))
+    if request.series is None:
+        return _job_from_link(request, ingest_options, options, claim, settings)
+    series = series_from_json(request.series.model_dump(exclude_none=True), ingest_options, field="series")
     covariates = covariates_from_json([c.model_dump() for c in request.covariates], ingest_options)
     return prepare_job(title=request.title, series=series, claim=claim, options=options,
                        source=request.source.model_dump(), settings=settings,
-                       ingest={"format": "json", "options": dataclasses.asdict(ingest_options)}, covariates=covariates)
+                       ingest={"format": "json", "options": dataclasses.asdict(ingest_options)}, covariates=covariates,
+                       seasonal=request.options.seasonal, seasonal_field="options.seasonal")
 
 
-def job_from_csv(data: str | bytes, *, claim: ClaimInput, options: AuditOptions, settings: Settings, title: str = "",
-                 time_column: str | None = None, value_column: str | None = None, decimal_comma: bool = False,
-                 missing_sentinels: tuple[float, ...] = (), source: dict[str, Any] | None = None,
-                 filename: str | None = None, covariate_columns: Sequence[str] = (),
-                 covariate_max_lag: int | None = None, label: str | None = None,
-                 units: str | None = None) -> AuditJob:
-    """A CSV upload; ``covariate_columns`` names other numeric columns to adjust for (errors about them
+def _job_from_link(request: Any, ingest_options: IngestOptions, options: AuditOptions, claim: ClaimInput,
+                   settings: Settings) -> AuditJob:
+    """No series in the body: the data are fetched from ``source_url``; covariates are then its other columns."""
+    if not request.source_url:
+        raise InputError("the request has neither a series nor a link to one", location=Location(field="series"),
+                         fix="Send the series' times and values, or the data file's address as source_url")
+    table, provenance = read_source_url(request.source_url, ingest_options, settings)
+    covariates = covariates_from_table(table, request.covariate_columns, None)
+    source = {**request.source.model_dump(), "url": request.source.url or request.source_url}
+    return prepare_job(title=request.title, series=table.series, claim=claim, options=options, source=source,
+                       settings=settings, ingest={"format": "link", "options": dataclasses.asdict(ingest_options),
+                                                  "source_url": request.source_url, **table_inputs(table)},
+                       covariates=covariates, seasonal=request.options.seasonal, seasonal_field="options.seasonal",
+                       recorded_inputs={**table_inputs(table), "provenance": provenance})
+
+
+def job_from_file(data: str | bytes | None, *, claim: ClaimInput, options: AuditOptions, settings: Settings,
+                  title: str = "", time_column: str | None = None, value_column: str | None = None,
+                  decimal_comma: bool = False, missing_sentinels: tuple[float, ...] = (),
+                  source: dict[str, Any] | None = None, filename: str | None = None,
+                  covariate_columns: Sequence[str] = (), covariate_max_lag: int | None = None,
+                  sheet: str | None = None, header_row: int | None = None, seasonal: str | None = AUTO,
+                  data_url: str | None = None, label: str | None = "", units: str | None = "",
+                  fetched: tuple[ParsedTable, dict[str, Any]] | None = None) -> AuditJob:
+    """An uploaded file of any format this service reads (spreadsheet, CSV, plain text), or, with no file, the
+    one at ``data_url`` (the form field naming the link; ``fetched``, the table and provenance already read from
+    it, saves fetching it twice); ``covariate_columns`` names other numeric columns to adjust for (errors about them
     point at the fields ``covariate_columns`` and ``covariate_max_lag``)."""
     source = source or {}
     check_string_lengths({"title": title, "time_column": time_column, "value_column": value_column,
-                          "filename": filename, **{f"source_{k}": v for k, v in source.items()},
+                          "filename": filename, "sheet": sheet, "data_url": data_url, "label": label,
+                          "units": units, **{f"source_{k}": v for k, v in source.items()},
                           **({"covariate_columns": max(covariate_columns, key=len)} if covariate_columns else {})},
                          settings.max_string_length)
     ingest_options = IngestOptions(time_column=time_column, value_column=value_column, decimal_comma=decimal_comma,
-                                   missing_sentinels=missing_sentinels, max_points=settings.max_points)
-    table = read_csv_text(data, ingest_options)
+                                   missing_sentinels=missing_sentinels, max_points=settings.max_points, sheet=sheet,
+                                   header_row=header_row, label=label or "", units=units or "")
+    recorded: dict[str, Any] = {}
+    if data is None and data_url:
+        table, recorded["provenance"] = fetched or read_source_url(data_url, ingest_options, settings,
+                                                                   field="data_url")
+        raw = b""
+        ingest = {"format": "link", "source_url": data_url, "content_sha256": recorded["provenance"]["sha256"]}
+    else:
+        table = read_file(data if data is not None else b"", ingest_options, settings)
+        raw = data.encode("utf-8") if isinstance(data, str) else (data or b"")
+        ingest = {"format": _format_of(table), "filename": filename, "file_sha256": hashlib.sha256(raw).hexdigest()}
     covariates = covariates_from_table(table, covariate_columns, covariate_max_lag)
-    raw = data.encode("utf-8") if isinstance(data, str) else data
-    # The column names the series unless the person said what it measures.
-    series = dataclasses.replace(table.series, label=label or table.series.label,
-                                 units=units or table.series.units)
     return prepare_job(
-        title=title, series=series, claim=claim, options=options, source=source, settings=settings,
-        ingest={"format": "csv", "options": dataclasses.asdict(ingest_options), "filename": filename,
-                "file_sha256": hashlib.sha256(raw).hexdigest(), "delimiter": table.delimiter,
-                "columns": list(table.columns), "time_column": table.time_column,
-                "value_column": table.value_column, "month_column": table.month_column,
-                "covariate_columns": list(covariate_columns)},
+        title=title, series=table.series, claim=claim, options=options, source=source, settings=settings,
+        ingest={**ingest, "options": dataclasses.asdict(ingest_options), "delimiter": table.delimiter,
+                "columns": list(table.columns), "month_column": table.month_column,
+                "covariate_columns": list(covariate_columns), **table_inputs(table)},
         covariates=covariates, covariate_fields=["covariate_max_lag"] * len(covariates),
-        field_names=FORM_COVARIATE_FIELDS)
+        field_names=FORM_COVARIATE_FIELDS, seasonal=seasonal, recorded_inputs={**table_inputs(table), **recorded})
+
+
+def _format_of(table: ParsedTable) -> str:
+    if table.delimiter == "spreadsheet":
+        return "spreadsheet"
+    return "text" if table.delimiter in ("whitespace", "fixed-width") else "csv"
 
 
 def compute_document(job: AuditJob) -> dict[str, Any]:
@@ -180,6 +239,7 @@ def compute_document(job: AuditJob) -> dict[str, Any]:
     except InputError as error:
         raise rename_fields(error, {}, job.field_names) from None
     document = audit_document(result)
+    document["inputs"] = {**document["inputs"], **job.recorded_inputs}
     return {**document, "claim": {**document["claim"], **job.record.as_dict(), "window": job.window}}
 
 

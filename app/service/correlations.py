@@ -17,12 +17,13 @@ from typing import Any
 from app import __version__
 from app.correlation import CorrelationOptions, check_correlation_options, correlation_document, run_correlation
 from app.errors import Location, SeriesFormatError
-from app.ingest import IngestOptions, Series, read_csv_text, series_from_json
+from app.ingest import IngestOptions, Series, series_from_json
 from app.service.audits import string_times, with_defaults
 from app.service.claims import ClaimRecord, claim_record, derived_seed, listed_claim, search_text
 from app.service.columns import extra_column, unusable_column
 from app.service.limits import check_string_lengths, check_work
 from app.service.payloads import series_payload
+from app.service.sources import read_file
 from app.settings import Settings
 from app.store import CORRELATION, AuditRecord, AuditRepository, NewAudit
 
@@ -91,8 +92,10 @@ def correlation_job_from_csv(data: str | bytes, *, driver_column: str, response_
                              options: CorrelationOptions, settings: Settings, title: str = "",
                              time_column: str | None = None, decimal_comma: bool = False,
                              missing_sentinels: tuple[float, ...] = (), source: dict[str, Any] | None = None,
-                             filename: str | None = None, record: ClaimRecord = ClaimRecord()) -> CorrelationJob:
-    """Two numeric columns of one file on its time column: errors name ``driver_column`` / ``response_column``."""
+                             filename: str | None = None, record: ClaimRecord = ClaimRecord(),
+                             sheet: str | None = None, header_row: int | None = None) -> CorrelationJob:
+    """Two numeric columns of one file (CSV, plain text or a spreadsheet's sheet) on its time column: errors name
+    ``driver_column`` / ``response_column``."""
     source = source or {}
     check_string_lengths({"title": title, "time_column": time_column, "driver_column": driver_column,
                           "response_column": response_column, "filename": filename,
@@ -101,8 +104,9 @@ def correlation_job_from_csv(data: str | bytes, *, driver_column: str, response_
         raise SeriesFormatError(f"the driver and the response are both the column '{driver_column}'",
                                 location=Location(field="driver_column"), fix="Name two different columns")
     reading = IngestOptions(time_column=time_column, value_column=response_column, decimal_comma=decimal_comma,
-                            missing_sentinels=missing_sentinels, max_points=settings.max_points)
-    table = read_csv_text(data, reading)
+                            missing_sentinels=missing_sentinels, max_points=settings.max_points, sheet=sheet,
+                            header_row=header_row)
+    table = read_file(data, reading, settings)
     found = extra_column(table, driver_column)
     if found is None:
         raise unusable_column(table, driver_column, "driver", "driver_column")

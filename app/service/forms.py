@@ -10,7 +10,7 @@ from collections.abc import Iterable
 from typing import Any, Protocol
 
 from app.errors import InputError, Location
-from app.service.audits import AuditJob, audit_options, job_from_csv, rename_fields
+from app.service.audits import AuditJob, audit_options, job_from_file, rename_fields
 from app.service.claims import CLAIM_RECORD_FIELDS, ClaimInput, claim_record
 from app.service.covariates import column_names
 from app.settings import Settings
@@ -28,7 +28,7 @@ OPTION_FIELDS = {"confidence": float, "noise": str, "simulations": int, "seed": 
 KNOWN_FORM_FIELDS = frozenset({
     "file", "title", "label", "units", "claim_start", "claim_end", "claim_kind", *CLAIM_FORM_FIELDS.values(),
     "time_column", "value_column", *OPTION_FIELDS, "decimal_comma", "missing_sentinels", "covariate_columns",
-    "covariate_max_lag", "source_name", "source_url", "source_notes"})
+    "covariate_max_lag", "source_name", "source_url", "source_notes", "sheet", "header_row", "seasonal", "data_url"})
 
 
 class Form(Protocol):
@@ -109,8 +109,9 @@ def check_known_fields(names: Iterable[str]) -> None:
                          fix="Send only the fields the form takes: " + ", ".join(sorted(KNOWN_FORM_FIELDS)))
 
 
-def job_from_form(form: Form, data: bytes, filename: str | None, settings: Settings) -> AuditJob:
-    """The multipart audit: the CSV in ``data``, everything else in the form's text fields."""
+def job_from_form(form: Form, data: bytes | None, filename: str | None, settings: Settings) -> AuditJob:
+    """The multipart audit: the file in ``data`` (or, with none, the one at ``data_url``), everything else in the
+    form's text fields. Blocking when it fetches a link: run it in a worker thread."""
     check_known_fields(form.keys())
     try:
         record = claim_record({name: form_text(form, field) for name, field in CLAIM_FORM_FIELDS.items()},
@@ -119,7 +120,7 @@ def job_from_form(form: Form, data: bytes, filename: str | None, settings: Setti
                            end=form_required(form, "claim_end"), record=record)
         options = audit_options({name: form_number(form, name, kind) if kind is not str else form_text(form, name)
                                  for name, kind in OPTION_FIELDS.items()}, settings)
-        return job_from_csv(
+        return job_from_file(
             data, claim=claim, options=options, settings=settings, title=form_text(form, "title") or "",
             label=form_text(form, "label"), units=form_text(form, "units"),
             time_column=form_text(form, "time_column"), value_column=form_text(form, "value_column"),
@@ -127,6 +128,8 @@ def job_from_form(form: Form, data: bytes, filename: str | None, settings: Setti
             source={"name": form_text(form, "source_name"), "url": form_text(form, "source_url"),
                     "notes": form_text(form, "source_notes")},
             filename=filename, covariate_columns=form_texts(form, "covariate_columns"),
-            covariate_max_lag=form_number(form, "covariate_max_lag", int))
+            covariate_max_lag=form_number(form, "covariate_max_lag", int), sheet=form_text(form, "sheet"),
+            header_row=form_number(form, "header_row", int), seasonal=form_text(form, "seasonal"),
+            data_url=form_text(form, "data_url"))
     except InputError as error:
         raise rename_fields(error, FORM_FIELD_NAMES) from None

@@ -19,6 +19,7 @@ from app.stats.ols import fit_trend
 from app.stats.windows import MIN_WINDOW_POINTS, check_one_series, check_times, indices_for_times, slopes_for_bounds
 
 COARSEST_DEFAULT_STEP = 0.25  # years: monthly data on a quarterly grid gives a 25 x 25 matrix for k = 3
+MIN_COMPARED_YEARS = 1.0  # a window shorter than a year of data is never compared with the claimed one
 TIE_TOLERANCE = 1e-12  # relative: cells that are the same window computed twice must tie, not rank
 
 
@@ -27,7 +28,8 @@ class SensitivityMatrix:
     """Trends of the windows around the claimed one. Rows are starts, columns are ends.
 
     ``slopes`` is NaN where the window has fewer than three points, starts at or after its
-    end, or reaches more than one sampling interval beyond the data.
+    end, reaches more than one sampling interval beyond the data, or is too short to compare with the claimed
+    one (``shortest_years``).
     """
 
     start_times: np.ndarray
@@ -43,6 +45,7 @@ class SensitivityMatrix:
     share_flatter_than_long_term: float  # share of all cells below the long-term slope
     min_slope: float
     max_slope: float
+    shortest_years: float = 0.0  # the least span of data (sampling intervals covered) a compared window has
 
 
 @dataclass(frozen=True)
@@ -85,8 +88,10 @@ def window_sensitivity(t: np.ndarray, y: np.ndarray, claimed_start: float, claim
     first, _ = indices_for_times(t, start_times, start_times)
     _, last = indices_for_times(t, end_times, end_times)
     slopes = slopes_for_bounds(t, values, first[:, None], last[None, :])
+    shortest = shortest_window_years(claimed_end - claimed_start + sampling)
+    covered = end_times[None, :] - start_times[:, None] + sampling
     inside = (start_times[:, None] < end_times[None, :]) & (start_times[:, None] >= t[0] - sampling) \
-        & (end_times[None, :] <= t[-1] + sampling)
+        & (end_times[None, :] <= t[-1] + sampling) & (covered >= shortest - 1e-9)
     slopes = np.where(inside, slopes, np.nan)
 
     claimed_slope = float(slopes_for_bounds(t, values, claimed_first, claimed_last))
@@ -110,7 +115,15 @@ def window_sensitivity(t: np.ndarray, y: np.ndarray, claimed_start: float, claim
         share_flatter_than_long_term=float(np.mean(finite < trend)),
         min_slope=float(finite.min()),
         max_slope=float(finite.max()),
+        shortest_years=shortest,
     )
+
+
+def shortest_window_years(claimed_years: float) -> float:
+    """The least span a window compared with the claimed one may cover: half the claimed span, and never under a
+    year (a few months' trend swings far beyond any decade's and says nothing about the claim), but never more
+    than the claimed window itself. Our requirement, no source."""
+    return min(claimed_years, max(0.5 * claimed_years, MIN_COMPARED_YEARS))
 
 
 def endpoint_outliers(t: np.ndarray, y: np.ndarray, start: float, end: float, reference: np.ndarray,

@@ -25,7 +25,8 @@ TEXT_FIELDS = ("table", "sample", "title", "label", "units", "time_column", "val
                "seed", "rate_unit", "missing_sentinels", "source_name", "source_url", "source_notes",
                "covariate_max_lag", "check", "driver_column", "driver_label", "driver_units", "window_years",
                "transform", "claim_text", "claim_claimant", "claim_outlet", "claim_made_on", "claim_source_url",
-               "read_claim")
+               "read_claim", "sheet", "header_row", "seasonal", "data_url", "file_data",
+               "sheet_read")
 CONFIDENCE_CHOICES = ("0.9", "0.95", "0.99")
 TREND, LINK = "trend", "link"  # what the desk checks: a claim about one series' trend, or a driver and a response
 DEFAULT_WINDOW_YEARS = "15"
@@ -69,6 +70,12 @@ class DeskForm:
     claim_made_on: str = ""
     claim_source_url: str = ""
     read_claim: str = ""  # set by the button that reads the sentence into kind and window
+    sheet: str = ""  # a spreadsheet's sheet; empty: the first that holds a table
+    header_row: str = ""  # the row naming the columns; empty: found by the reader
+    seasonal: str = ""  # auto (empty), remove or keep
+    data_url: str = ""  # "Link to the data": fetched by the service instead of an upload
+    file_data: str = ""  # an uploaded spreadsheet, base64, carried from the preview to the audit
+    sheet_read: str = ""  # the sheet the chosen columns belong to: another sheet chosen starts them afresh
 
     @property
     def checks_link(self) -> bool:
@@ -110,6 +117,9 @@ class DeskForm:
                    "simulations": _number(self.simulations, "simulations", int),
                    "seed": _number(self.seed, "seed", int), "noise": self.noise.strip() or None}
         return window, self.transform.strip() or "none", options
+
+    def header_row_number(self) -> int | None:
+        return _number(self.header_row, "header_row", int)
 
     def reference_texts(self) -> tuple[str, str]:
         return self.reference_start.strip(), self.reference_end.strip()
@@ -171,8 +181,15 @@ TRANSFORM_WORDS = {
 }
 
 
+SEASONAL_WORDS = {
+    "auto": "Take it out when one is found (recommended)",
+    "remove": "Always take the calendar-month cycle out",
+    "keep": "Keep it: audit the series as given",
+}
+
+
 def form_choices(settings: Settings) -> dict[str, Any]:
-    return {"claim_kinds": {k: CLAIM_KIND_WORDS.get(k, k) for k in CLAIM_KINDS},
+    return {"seasonal_choices": SEASONAL_WORDS,"claim_kinds": {k: CLAIM_KIND_WORDS.get(k, k) for k in CLAIM_KINDS},
             "transforms": {k: TRANSFORM_WORDS.get(k, k) for k in TRANSFORMS},
             "noise_models": {k: NOISE_MODEL_WORDS.get(k, k) for k in NOISE_MODELS},
             "rate_units": tuple(RATE_UNITS), "confidence_choices": CONFIDENCE_CHOICES,

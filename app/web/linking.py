@@ -21,7 +21,7 @@ from app.service.records import CORRELATIONS
 from app.settings import Settings
 from app.web.forms import LINK, DeskForm
 from app.web.pages import run_desk_form
-from app.web.reading import ingest_options, read_table, required, sample_filled, table_text
+from app.web.reading import columns_of_this_sheet, ingest_options, read_table, required, sample_filled, table_text
 
 router = APIRouter(include_in_schema=False)
 
@@ -34,7 +34,7 @@ def _named(series: Series, label: str, units: str) -> Series:
 
 
 def correlation_job(form: DeskForm, filename: str | None, settings: Settings) -> CorrelationJob:
-    form = sample_filled(form, settings)
+    form = columns_of_this_sheet(sample_filled(form, settings))
     table, sample = read_table(form, settings)  # the same reading as the preview, so errors point at the form
     check_string_lengths({"label": form.label, "units": form.units, "driver_label": form.driver_label,
                           "driver_units": form.driver_units, "source_name": form.source_name,
@@ -48,7 +48,8 @@ def correlation_job(form: DeskForm, filename: str | None, settings: Settings) ->
         text, driver_column=required(form.driver_column, "driver_column", DRIVER_FIX),
         response_column=table.value_column, options=options, settings=settings, title=form.title.strip(),
         time_column=table.time_column, decimal_comma=ingest.decimal_comma, missing_sentinels=ingest.missing_sentinels,
-        source=form.source(), filename=filename or (sample or {}).get("file"),
+        source=form.source(), filename=filename or (sample or {}).get("file"), sheet=ingest.sheet,
+        header_row=ingest.header_row,
         record=claim_record(form.claim_record_values(), settings.max_string_length, prefix="claim_"))
     driver = _named(job.driver, form.driver_label, form.driver_units)
     response = _named(job.response, table.series.label, table.series.units)

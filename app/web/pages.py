@@ -17,7 +17,7 @@ from fastapi.responses import HTMLResponse, RedirectResponse
 
 from app.dependencies import get_runtime
 from app.errors import AccessDenied, InputError, TrendAuditError
-from app.service.audits import audit_options, job_from_csv, rename_fields
+from app.service.audits import audit_options, job_from_file, rename_fields
 from app.service.claims import SEARCH_MAX_CHARS, ClaimInput, claim_record
 from app.service.forms import FORM_FIELD_NAMES
 from app.service.creating import create_record
@@ -31,8 +31,8 @@ from app.web.forms import LINK, TREND, DeskForm, form_choices
 from app.web.owners import created_redirect
 from app.web.preview import PreviewView, preview_view
 from app.web.problems import ProblemView, problem_view
-from app.web.reading import (chosen_columns, ingest_options, posted_form, read_table, required, sample_filled,
-                             samples, table_text)
+from app.web.reading import (chosen_columns, columns_of_this_sheet, ingest_options, links_to_data, posted_form,
+                             read_table, read_table_and_provenance, required, sample_filled, samples, table_text)
 from app.web.responses import html, is_secure
 
 router = APIRouter(include_in_schema=False)
@@ -94,8 +94,8 @@ def _job(form: DeskForm, filename: str | None, settings: Settings):
 
 def _desk_job(form: DeskForm, filename: str | None, settings: Settings):
     """The desk's audit goes through the multipart form's own path: the same edges, the same record."""
-    form = sample_filled(form, settings)
-    table, sample = read_table(form, settings)
+    form = columns_of_this_sheet(sample_filled(form, settings))
+    table, sample, provenance = read_table_and_provenance(form, settings)
     check_string_lengths({"label": form.label, "units": form.units, "source_name": form.source_name,
                           "source_url": form.source_url, "source_notes": form.source_notes},
                          settings.max_string_length)
@@ -106,15 +106,17 @@ def _desk_job(form: DeskForm, filename: str | None, settings: Settings):
     reference_start, reference_end = form.reference_texts()
     options = audit_options({**form.option_values(), "reference_start": reference_start or None,
                              "reference_end": reference_end or None}, settings)
-    text, _ = table_text(form, settings)
+    linked = links_to_data(form)
+    text = None if linked else table_text(form, settings)[0]
     ingest = ingest_options(form, settings, sample)
-    # The API's CSV path names the series after its column; the desk lets the person say what it measures.
-    return job_from_csv(text, claim=claim, options=options, settings=settings, title=form.title.strip(),
-                        time_column=table.time_column, value_column=table.value_column,
-                        decimal_comma=ingest.decimal_comma, missing_sentinels=ingest.missing_sentinels,
-                        source=form.source(), filename=filename or (sample or {}).get("file"),
-                        covariate_columns=form.covariate_columns, covariate_max_lag=form.covariate_lag(),
-                        label=table.series.label, units=table.series.units)
+    return job_from_file(text, claim=claim, options=options, settings=settings, title=form.title.strip(),
+                         time_column=ingest.time_column, value_column=ingest.value_column,
+                         decimal_comma=ingest.decimal_comma, missing_sentinels=ingest.missing_sentinels,
+                         source=form.source(), filename=filename or (sample or {}).get("file"),
+                         covariate_columns=form.covariate_columns, covariate_max_lag=form.covariate_lag(),
+                         sheet=ingest.sheet, header_row=ingest.header_row, seasonal=form.seasonal or None,
+                         data_url=form.data_url.strip() if linked else None, label=ingest.label, units=ingest.units,
+                         fetched=(table, provenance) if linked and provenance else None)
 
 
 async def run_desk_form(request: Request, *, check: str, make_job: Callable,

@@ -242,11 +242,11 @@ def test_multipart_faults_are_problems_naming_the_field(client, fields, files, f
     assert_problem(response, 422, field)
 
 
-def test_a_file_that_is_not_text_is_a_problem(client):
+def test_a_damaged_spreadsheet_is_a_problem_naming_the_file(client):
     response = client.post("/api/v1/audits", data=form(),
                            files={"file": ("s.xlsx", b"PK\x03\x04" + bytes(range(256)), "application/octet-stream")})
-    body = assert_problem(response, 422)
-    assert "CSV" in body["fix"]
+    body = assert_problem(response, 422, "file")
+    assert ".xlsx" in body["fix"]
 
 
 # --- JSON faults -----------------------------------------------------------------------------------------------

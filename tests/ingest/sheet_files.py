@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import io
+import re
 import zipfile
 from xml.sax.saxutils import escape, quoteattr
 
@@ -76,3 +77,40 @@ def ods_bytes(sheets: dict[str, list[str]], manifest_extra: str = "", prolog: st
         archive.writestr("content.xml", content)
         archive.writestr("META-INF/manifest.xml", manifest)
     return out.getvalue()
+
+
+# Hostile files: each is refused before it is unpacked or expanded.
+
+def zip_bomb() -> bytes:
+    out = io.BytesIO()
+    with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as archive:
+        archive.writestr("xl/workbook.xml", "<workbook/>")
+        archive.writestr("xl/worksheets/sheet1.xml", b"\0" * (20 * 1024 * 1024))
+    return out.getvalue()
+
+
+def xlsx_declaring(ref: str) -> bytes:
+    data = xlsx_bytes({"Data": [["year", "value"]] + [[1990 + i, round(0.02 * i, 4)] for i in range(12)]})
+    return rewrite_member(data, "xl/worksheets/sheet1.xml",
+                          lambda xml: re.sub(r'<dimension ref="[^"]*"', f'<dimension ref="{ref}"', xml))
+
+
+def encrypted_office_file() -> bytes:
+    # The compound-file signature and a directory entry named EncryptedPackage, as an encrypted workbook has
+    # (MS-OFFCRYPTO section 2.3.4.4); the rest is padding.
+    return b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1" + b"\0" * 500 + "EncryptedPackage".encode("utf-16-le") + b"\0" * 500
+
+
+def macro_only_workbook() -> bytes:
+    out = io.BytesIO()
+    with zipfile.ZipFile(out, "w") as archive:
+        archive.writestr("[Content_Types].xml", "<Types/>")
+        archive.writestr("xl/workbook.xml", "<workbook><sheets/></workbook>")
+        archive.writestr("xl/vbaProject.bin", b"\0" * 64)
+    return out.getvalue()
+
+
+def ods_entity_bomb() -> bytes:
+    prolog = '<!DOCTYPE d [<!ENTITY a "aaaaaaaaaa"><!ENTITY b "&a;&a;&a;&a;&a;&a;&a;&a;&a;&a;">]>'
+    return ods_bytes({"S": [ods_row(["year", "value"]), "<table:table-row><table:table-cell><text:p>&b;</text:p>"
+                                                       "</table:table-cell></table:table-row>"]}, prolog=prolog)

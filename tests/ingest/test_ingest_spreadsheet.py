@@ -3,9 +3,7 @@
 from __future__ import annotations
 
 import datetime as dt
-import io
 import re
-import zipfile
 
 import numpy as np
 import pytest
@@ -14,7 +12,8 @@ from app.errors import LimitExceeded, SeriesFormatError, UnsupportedMediaType
 from app.ingest import IngestOptions, ReadLimits, read_upload
 from app.ingest.spreadsheet import read_spreadsheet
 from ingest_samples import wiggle
-from sheet_files import ods_bytes, ods_cell, ods_row, rewrite_member, xlsx_bytes
+from sheet_files import (encrypted_office_file, macro_only_workbook, ods_bytes, ods_cell, ods_entity_bomb, ods_row,
+                         rewrite_member, xlsx_bytes, xlsx_declaring, zip_bomb)
 
 MARKUP_NAME = "<img src=x onerror=alert(1)>"
 
@@ -95,41 +94,6 @@ def test_ods_repeated_data_rows_expand():
     rows.append(ods_row([2000, 5.0]))
     table = read_spreadsheet(ods_bytes({"S": rows}), IngestOptions())
     assert table.series.n == 11
-
-
-def zip_bomb() -> bytes:
-    out = io.BytesIO()
-    with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as archive:
-        archive.writestr("xl/workbook.xml", "<workbook/>")
-        archive.writestr("xl/worksheets/sheet1.xml", b"\0" * (20 * 1024 * 1024))
-    return out.getvalue()
-
-
-def xlsx_declaring(ref: str) -> bytes:
-    data = xlsx_bytes({"Data": [["year", "value"]] + [[1990 + i, wiggle(i)] for i in range(12)]})
-    return rewrite_member(data, "xl/worksheets/sheet1.xml",
-                          lambda xml: re.sub(r'<dimension ref="[^"]*"', f'<dimension ref="{ref}"', xml))
-
-
-def encrypted_office_file() -> bytes:
-    # The compound-file signature and a directory entry named EncryptedPackage, as an encrypted workbook has
-    # (MS-OFFCRYPTO section 2.3.4.4); the rest is padding.
-    return b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1" + b"\0" * 500 + "EncryptedPackage".encode("utf-16-le") + b"\0" * 500
-
-
-def macro_only_workbook() -> bytes:
-    out = io.BytesIO()
-    with zipfile.ZipFile(out, "w") as archive:
-        archive.writestr("[Content_Types].xml", "<Types/>")
-        archive.writestr("xl/workbook.xml", "<workbook><sheets/></workbook>")
-        archive.writestr("xl/vbaProject.bin", b"\0" * 64)
-    return out.getvalue()
-
-
-def ods_entity_bomb() -> bytes:
-    prolog = '<!DOCTYPE d [<!ENTITY a "aaaaaaaaaa"><!ENTITY b "&a;&a;&a;&a;&a;&a;&a;&a;&a;&a;">]>'
-    return ods_bytes({"S": [ods_row(["year", "value"]), "<table:table-row><table:table-cell><text:p>&b;</text:p>"
-                                                       "</table:table-cell></table:table-row>"]}, prolog=prolog)
 
 
 HOSTILE = [

@@ -192,3 +192,13 @@ def test_views_of_one_record_arriving_together_draw_its_charts_once(document, mo
         view.join()
     assert sorted(calls) == sorted(CHART_NAMES)
     assert len(results) == 4 and all(result is results[0] for result in results)
+
+
+def test_the_sensitivity_colours_reach_as_far_as_the_windows_near_the_claim():
+    from app.report.charts import _centred_norm
+
+    slopes = np.full((13, 13), 1.0)
+    slopes[6, 6] = 1.5  # the claimed window
+    slopes[0, 12] = 40.0  # a far corner, e.g. a short window's wild trend
+    norm = _centred_norm(slopes, 1.0)
+    assert (norm.vmin, norm.vmax) == pytest.approx((0.5, 1.5))

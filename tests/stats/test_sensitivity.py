@@ -139,3 +139,27 @@ def test_bad_claims_and_options_raise_domain_errors():
         endpoint_outliers(ANNUAL, y, 1990.2, 1990.8, y, noise_sd=1.0)
     with pytest.raises(InputError, match="one series"):
         window_sensitivity(ANNUAL, np.vstack([y, y]), 1990.0, 2005.0)
+
+
+def test_windows_shorter_than_half_the_claimed_one_or_a_year_are_left_out(rng):
+    # A two-year monthly claim with k = 3 years reaches windows of a few months and windows ending before they
+    # start; only those covering at least max(half the claim, a year) of data are compared (our requirement).
+    t = 2000 + (np.arange(240) + 0.5) / 12
+    y = 0.02 * (t - 2000) + 0.1 * rng.standard_normal(t.size)
+    start, end = t[60], t[83]  # 24 months: 2005-01 to 2006-12
+    matrix = window_sensitivity(t, y, start, end, k_years=3.0)
+    covered = matrix.end_times[None, :] - matrix.start_times[:, None] + 1 / 12
+    assert matrix.shortest_years == pytest.approx(1.0)
+    assert np.all(np.isnan(matrix.slopes[covered < 1.0 - 1e-9]))
+    kept = (covered >= 1.0 - 1e-9) & (matrix.end_times[None, :] <= t[-1])
+    assert np.all(np.isfinite(matrix.slopes[kept]))
+    assert np.isfinite(matrix.slopes[matrix.slopes.shape[0] // 2, matrix.slopes.shape[1] // 2])
+
+
+def test_a_long_claim_compares_windows_at_least_half_its_length(rng):
+    y = 0.02 * (ANNUAL - 1970.0) + 0.1 * rng.standard_normal(ANNUAL.size)
+    matrix = window_sensitivity(ANNUAL, y, 2000.0, 2005.0, k_years=3.0)  # six years of data
+    covered = matrix.end_times[None, :] - matrix.start_times[:, None] + 1.0
+    assert matrix.shortest_years == pytest.approx(3.0)
+    assert np.all(np.isnan(matrix.slopes[covered < 3.0]))
+    assert np.all(np.isfinite(matrix.slopes[(covered >= 3.0) & (matrix.end_times[None, :] <= 2020.0)]))
