@@ -63,6 +63,7 @@ _REFERENCE = re.compile(r"#([-\w.:]+)")
 # Fixed margins, in inches, instead of matplotlib's constrained layout: that solver measures every
 # text twice and took about half of each chart's drawing time. These fit tick labels of up to six
 # characters, one axis label, and a legend of short lines under the plot.
+CHART_WIDTH = 5.4  # inches: scaled to a 300-pixel phone column, 9-point lettering stays about 7 pixels high
 MARGIN_LEFT = 0.85
 MARGIN_RIGHT = 0.2
 MARGIN_TOP = 0.12
