@@ -91,8 +91,13 @@ def _flatter_words(window: Any, long_term: Any) -> str:
     if ratio < 1 / ALMOST_FLAT:
         return "almost flat next to the long-term trend"
     if ratio < 1:
-        return f"about {format_number(1 / ratio)} times flatter than the long-term trend"
-    return f"about {format_number(ratio)} times steeper than the long-term trend"
+        return f"about {_times(1 / ratio)} times flatter than the long-term trend"
+    return f"about {_times(ratio)} times steeper than the long-term trend"
+
+
+def _times(ratio: float) -> str:
+    """'1.5' below two, whole numbers above: a reader quotes "about 4 times", not "about 4.0 times"."""
+    return f"{ratio:.1f}" if ratio < 2 else f"{ratio:.0f}"
 
 
 def alpha_of(doc: dict[str, Any]) -> float:
@@ -120,14 +125,14 @@ def plain_paragraph(doc: dict[str, Any]) -> tuple[Words, ...]:
     second = (f"Over {time_of(doc, ref.get('start'))} to {time_of(doc, ref.get('end'))} the long-term trend is "
               f"{rate.text(lt.get('slope'))}, which over a window this long makes {_amount(doc, lt.get('slope'), years)}. ")
     chance = spell.get("probability")
-    shape = "steep" if spell.get("direction") == "high" else "flat"
+    shape = _spell_shape(spell.get("direction"), win.get("slope"), lt.get("slope"))
     if not is_number(chance):
         third = "How often a spell like this appears by chance could not be worked out. "
     elif chance >= alpha_of(doc):
-        third = (f"Spells this {shape} come and go: one turns up somewhere in {format_probability(chance)} of records "
+        third = (f"Spells {shape} come and go: one turns up somewhere in {format_probability(chance)} of records "
                  f"that simply keep the long-term trend with year-to-year swings like these. ")
     else:
-        third = (f"A spell this {shape} is unusual: it turns up in only {format_probability(chance)} of records that "
+        third = (f"A spell {shape} is unusual: it turns up in only {format_probability(chance)} of records that "
                  f"simply keep the long-term trend with year-to-year swings like these. ")
     needed = detect.get("years_to_detect")
     fourth = ""
@@ -135,6 +140,16 @@ def plain_paragraph(doc: dict[str, Any]) -> tuple[Words, ...]:
         fourth = (f"A {format_years(years)}-year window is short for this series: about {format_years(needed)} years "
                   f"are needed before the long-term trend itself reliably shows.")
     return linked(first, "trend") + (Words(second + third + fourth),)
+
+
+def _spell_shape(direction: Any, window: Any, long_term: Any) -> str:
+    """'this flat' or 'this steep' only when the window really is flatter or steeper than the long-term trend."""
+    ratio = window / long_term if is_number(window) and is_number(long_term) and long_term != 0 else float("nan")
+    if direction == "high" and ratio > 1:
+        return "this steep"
+    if direction != "high" and ratio < 1:
+        return "this flat"
+    return "like this"
 
 
 def _disagreeing_plausible(doc: dict[str, Any]) -> list[str]:
