@@ -267,7 +267,7 @@ def _segments_chart(doc: dict[str, Any]) -> Figure:
         ax.plot(t, stored_array(fitted), color=palette.SEGMENTS, linewidth=2.2, label="Joined straight segments")
     claim = doc["claim"]
     ax.axvline(claim["start"], color=palette.WINDOW, linewidth=1.2, label=f"Claimed start: {time_of(doc, claim['start'])}")
-    lay_out(fig, ax, plot_height=2.5, legend_columns=2, title=_name_document_values(ax, doc))
+    lay_out(fig, ax, plot_height=2.5, title=_name_document_values(ax, doc))  # one column: reads on a phone
     return fig
 
 
