@@ -49,12 +49,12 @@ def _text_column(fig: Figure, face: CardFace, left: float, top_px: float, width_
         y += step
 
     put("THE CLAIM", 30, color=palette.MUTED, fontsize=13, fontweight="bold")
-    claim = _wrapped(f"“{face.claim}”", int(width_chars * 1.25), 3)
+    claim = _wrapped(f"“{face.claim}”" if face.quoted else face.claim, int(width_chars * 1.25), 3)
     put(claim, (claim.count("\n") + 1) * 32 + 30, color=palette.INK, fontsize=18, family="serif", style="italic",
         linespacing=1.3)
     put("WHAT THE DATA SHOW", 30, color=palette.MUTED, fontsize=13, fontweight="bold")
     put(face.verdict_label, 42, color=palette.WINDOW, fontsize=19, fontweight="bold")
-    put(_wrapped(face.headline, width_chars, 5), 0, color=palette.INK, fontsize=24, family="serif",
+    put(_wrapped(face.headline, width_chars, 6), 0, color=palette.INK, fontsize=22, family="serif",
         fontweight="bold", linespacing=1.2)
 
 
@@ -84,10 +84,10 @@ def card_figure(face: CardFace, shape: str = "wide") -> Figure:
     fig.text(1 - 40 / width, 1 - 27 / height, _wrapped(face.title, 60, 1), color=palette.PAPER, fontsize=13,
              va="center", ha="right")
     if shape == "square":
-        _text_column(fig, face, 40 / width, 84, 46)
+        _text_column(fig, face, 40 / width, 84, 44)
         _chart(fig, face, [80 / width, 110 / height, 1 - 120 / width, 380 / height])
     else:
-        _text_column(fig, face, 40 / width, 84, 34)
+        _text_column(fig, face, 40 / width, 84, 30)
         _chart(fig, face, [640 / width, 130 / height, 520 / width, 420 / height])
     fig.text(40 / width, 36 / height, face.link, color=palette.LONG_TERM, fontsize=14, family="monospace",
              va="center")

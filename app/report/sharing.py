@@ -54,6 +54,7 @@ class CardFace:
 
     title: str
     claim: str
+    quoted: bool  # the claim as said (quoted on the card), not our description of it
     verdict_label: str
     headline: str
     time: np.ndarray
@@ -72,7 +73,8 @@ def audit_card_face(record_id: str, title: str, doc: dict[str, Any], permalink: 
     lines = tuple((stored_array(line.get("time")), stored_array(line.get("value")), role)
                   for role, line in (("long_term", curves.get("reference_line") or {}),
                                      ("window", curves.get("window_line") or {})) if line.get("time"))
-    return CardFace(title=title, claim=claim_brief(doc),
+    said = claim.get("text")
+    return CardFace(title=title, claim=claim_brief(doc), quoted=isinstance(said, str) and bool(said.strip()),
                     verdict_label=VERDICT_LABELS.get(verdict.get("code"), str(verdict.get("code", ""))),
                     headline=str(verdict.get("headline", "")), time=stored_array(curves.get("time")),
                     value=stored_array(curves.get("value")),
@@ -93,7 +95,7 @@ def correlation_card_face(record_id: str, title: str, doc: dict[str, Any], perma
     curves, verdict = doc.get("curves") or {}, doc.get("verdict") or {}
     response = (doc.get("inputs") or {}).get("response") or {}
     t = stored_array(curves.get("time"))
-    return CardFace(title=title, claim=correlation_claim(doc),
+    return CardFace(title=title, claim=correlation_claim(doc), quoted=False,
                     verdict_label=CORRELATION_VERDICT_LABELS.get(verdict.get("code"), str(verdict.get("code", ""))),
                     headline=str(verdict.get("headline", "")), time=t, value=stored_array(curves.get("response")),
                     window=None, lines=((t, stored_array(curves.get("fitted")), "link"),),

@@ -124,6 +124,10 @@ def _card_page(browser, url: str, size: tuple[int, int], path):
         box = page.evaluate("() => { const r = document.documentElement.getBoundingClientRect(); return [r.width, r.height]; }")
         page.screenshot(path=str(path))
         scripts = page.evaluate("() => document.querySelectorAll('script, img, foreignObject').length")
+        if size == (1200, 675):  # the words column ends before the chart, which starts 640 pixels in
+            crossing = page.evaluate("""() => [...document.querySelectorAll('text')].map(t => t.getBoundingClientRect())
+                .filter(r => r.left < 600 && r.top > 60 && r.bottom < 600 && r.right > 636).length""")
+            assert crossing == 0
         return " ".join(texts.split()), box, scripts
     finally:
         context.close()
