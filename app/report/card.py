@@ -85,7 +85,7 @@ def card_figure(face: CardFace, shape: str = "wide") -> Figure:
              va="center", ha="right")
     if shape == "square":
         _text_column(fig, face, 40 / width, 84, 44)
-        _chart(fig, face, [80 / width, 110 / height, 1 - 120 / width, 380 / height])
+        _chart(fig, face, [80 / width, 110 / height, 1 - 120 / width, 420 / height])
     else:
         _text_column(fig, face, 40 / width, 84, 30)
         _chart(fig, face, [640 / width, 130 / height, 520 / width, 420 / height])
