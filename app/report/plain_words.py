@@ -84,12 +84,12 @@ def _flatter_words(window: Any, long_term: Any) -> str:
     if not (is_number(window) and is_number(long_term)) or long_term == 0:
         return "not comparable with the long-term trend"
     ratio = window / long_term
+    if abs(ratio) < 1 / ALMOST_FLAT:
+        return "almost flat next to the long-term trend"
     if ratio < 0:
         return "going the other way from the long-term trend"
     if 1 / NEAR_EQUAL <= ratio <= NEAR_EQUAL:
         return "about the same as the long-term trend"
-    if ratio < 1 / ALMOST_FLAT:
-        return "almost flat next to the long-term trend"
     if ratio < 1:
         return f"about {_times(1 / ratio)} times flatter than the long-term trend"
     return f"about {_times(ratio)} times steeper than the long-term trend"
@@ -173,7 +173,8 @@ def what_would_change(doc: dict[str, Any]) -> str:
     if disagreeing:
         sentences.append("The verdict would differ if year-to-year swings " + " or ".join(
             d.removeprefix("year-to-year swings ").removeprefix("swings ") for d in disagreeing) +
-            ", which fits the data about as well.")
+            (", which fits the data about as well." if len(disagreeing) == 1 else
+             ", either of which fits the data about as well."))
     elif (doc.get("verdict") or {}).get("code") == TOO_SHORT and is_number(needed):
         sentences.append(f"A window of about {format_years(needed)} years or more would be needed to tell.")
     else:
