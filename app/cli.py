@@ -255,7 +255,7 @@ def summary_text(title: str, doc: dict[str, Any]) -> str:
         return text
 
     from app.report.claim_context import window_change_text, window_words
-    from app.report.context import simulation_error
+    from app.report.plain_words import simulation_error
 
     v, ref, lt, win = doc["verdict"], doc["reference"], doc["long_term"], doc["window"]
     change, spell, detect = doc["trend_change"], doc["spell"], doc["detectability"]

@@ -61,7 +61,8 @@
     }
   });
 
-  // "Copy" next to a read-only field (the owner token): shown only when a script can do the copying.
+  // "Copy" next to a read-only field (the owner token, the permanent link, the embed code) or a block of text (the
+  // citation): shown only when a script can do the copying.
   function enableCopyButtons() {
     var buttons = document.querySelectorAll("button[data-copy]");
     for (var i = 0; i < buttons.length; i++) {
@@ -69,20 +70,38 @@
       var field = document.getElementById(button.getAttribute("data-copy"));
       if (!field) continue;
       button.hidden = false;
-      button.addEventListener("click", copier(field, button.parentNode.querySelector("[data-copy-status]")));
+      button.addEventListener("click", copier(field, statusBeside(button)));
     }
+  }
+
+  function statusBeside(button) {
+    var next = button.nextElementSibling;
+    return next && next.hasAttribute("data-copy-status") ? next : button.parentNode.querySelector("[data-copy-status]");
+  }
+
+  function selectText(field) {
+    if (typeof field.select === "function") {
+      field.focus();
+      field.select();
+      return;
+    }
+    var range = document.createRange();
+    range.selectNodeContents(field);
+    var selection = window.getSelection();
+    selection.removeAllRanges();
+    selection.addRange(range);
   }
 
   function copier(field, status) {
     return function () {
-      field.focus();
-      field.select();
-      var say = function (text) { if (status) status.textContent = text; };
+      selectText(field);
+      var text = field.value !== undefined ? field.value : field.textContent;
+      var say = function (words) { if (status) status.textContent = words; };
+      var yourself = "Selected: copy it yourself.";
       if (navigator.clipboard && window.isSecureContext) {
-        navigator.clipboard.writeText(field.value).then(function () { say("Copied."); },
-          function () { say("Select the token and copy it yourself."); });
+        navigator.clipboard.writeText(text).then(function () { say("Copied."); }, function () { say(yourself); });
       } else {
-        say(document.execCommand && document.execCommand("copy") ? "Copied." : "Select the token and copy it yourself.");
+        say(document.execCommand && document.execCommand("copy") ? "Copied." : yourself);
       }
     };
   }

@@ -13,7 +13,7 @@ from matplotlib.figure import Figure
 from app.report import palette
 from app.report.charts import (ChartSpec, claim_span, confidence_text, name_values, observed_line, stored_array,
                                trend_band)
-from app.report.figures import lay_out, new_figure, stack_panels, styled
+from app.report.figures import CHART_WIDTH, lay_out, new_figure, stack_panels, styled
 from app.report.numbers import Rate, time_of
 
 ADJUSTED_CHART_NAME = "adjusted"
@@ -42,7 +42,7 @@ def _panel_label(ax, text: str) -> None:
 def _adjusted_chart(doc: dict[str, Any]) -> Figure:
     """Two panels on the same axes, so the spell and the trend can be compared by eye without overplotting."""
     adjusted = doc["adjustment"]["audit"]
-    fig = new_figure(7.0)
+    fig = new_figure(CHART_WIDTH)
     lower = fig.add_subplot()
     upper = fig.add_axes([0, 0, 1, 1], sharex=lower, sharey=lower)
     claim = doc["claim"]

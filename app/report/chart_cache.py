@@ -33,7 +33,7 @@ from app.report.chart_sets import AUDIT_CHARTS, ChartSet
 from app.report.figures import as_inline, as_standalone, labelled_svg, png_bytes
 
 # Bump when a chart's drawing changes without a release, so kept charts are drawn again.
-CHART_REVISION = 2
+CHART_REVISION = 3
 CHART_RENDERER = f"{__version__}+charts{CHART_REVISION}"
 CACHE_ENTRIES = 600  # entries are a record's chart set or one chart file; an SVG is 20-150 kB
 FORMATS = ("inline", "svg", "png")
@@ -114,6 +114,15 @@ _drawing = _OneAtATime()
 def clear_chart_cache() -> None:
     """Forgets every chart this process drew or loaded (tests and benchmarks start cold with it)."""
     _cache.clear()
+
+
+def kept(key: tuple, make: Callable[[], Any]) -> Any:
+    """A drawn file kept in this process's LRU under ``key``: made once, served many times (cards use it)."""
+    cached = _cache.get(key)
+    if cached is None:
+        cached = make()
+        _cache.put(key, cached)
+    return cached
 
 
 def check_chart_name(name: str, document: dict[str, Any], charts: ChartSet = AUDIT_CHARTS) -> None:

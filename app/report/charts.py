@@ -16,19 +16,15 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from matplotlib.colors import Normalize
 from matplotlib.figure import Figure
-from matplotlib.patches import Rectangle
 from matplotlib.ticker import PercentFormatter
 
 from app.report import palette
-from app.report.figures import lay_out, new_figure, styled
-from app.audit.verdict import ordinal
+from app.report.figures import CHART_WIDTH, lay_out, new_figure, styled
 from app.report.numbers import Rate, format_percent, format_probability, format_years, is_number, time_of
 
-MAX_CELL_TICKS = 7
 GAP_FACTOR = 1.5  # a step this many times the usual one means values are missing between
-LABEL_WRAP = 80  # characters per line of a series name above a chart
+LABEL_WRAP = 60  # characters per line of a series name above a chart
 CHART_NAMES = ("series", "null", "sensitivity", "segments", "detectability")
 
 
@@ -105,7 +101,7 @@ def observed_line(ax, t: np.ndarray, y: np.ndarray, label: str = "Data", colour:
 
 @styled
 def _series_chart(doc: dict[str, Any]) -> Figure:
-    fig = new_figure(7.0)
+    fig = new_figure(CHART_WIDTH)
     ax = fig.add_subplot()
     curves = doc["curves"]
     claim = doc["claim"]
@@ -144,7 +140,7 @@ def _shares(histogram: dict[str, Any], factor: float) -> tuple[np.ndarray, np.nd
 def _null_chart(doc: dict[str, Any]) -> Figure:
     rate = Rate.of(doc)
     spell = doc["spell"]
-    fig = new_figure(7.0)
+    fig = new_figure(CHART_WIDTH)
     ax = fig.add_subplot()
     edges, shares = _shares(spell.get("histogram") or {}, rate.factor)
     if edges.size > 1:
@@ -179,112 +175,100 @@ def _null_description(doc: dict[str, Any]) -> str:
             f"{format_percent(spell.get('probability_single_window'), 1)} of single windows.")
 
 
-# 3. Start/end sensitivity: the trend of every nearby window.
+# 3. Start/end sensitivity: the trend of every nearby window, ranked, with the claimed one marked.
 
-def _centred_norm(values: np.ndarray, centre: float) -> Normalize:
-    """Colours centred on ``centre``, reaching as far as the windows near the claimed one (the middle half of the
-    matrix each way) go: a few short windows at the corners would otherwise wash every other cell out to the
-    centre colour. Cells beyond take the end colours."""
-    finite = near_claimed(values)
-    finite = finite[np.isfinite(finite)]
-    if finite.size == 0 or not math.isfinite(centre):
-        return Normalize()
-    reach = float(np.max(np.abs(finite - centre))) or 1e-12
-    return Normalize(centre - reach, centre + reach)
-
-
-def near_claimed(values: np.ndarray) -> np.ndarray:
-    """The cells whose start and end both lie within half the matrix's reach of the claimed (centre) cell."""
-    rows, columns = values.shape
-    row_reach, column_reach = rows // 4, columns // 4
-    return values[rows // 2 - row_reach:rows // 2 + row_reach + 1,
-                  columns // 2 - column_reach:columns // 2 + column_reach + 1]
-
-
-def _cell_ticks(set_ticks, centres: np.ndarray, doc: dict[str, Any]) -> None:
-    """Ticks on the cells themselves, named like the data's times, at most about seven of them."""
-    stride = max(1, math.ceil(centres.size / MAX_CELL_TICKS))
-    chosen = centres[::stride]
-    set_ticks(chosen, [time_of(doc, value) for value in chosen])
-
-
-def _evenly_spaced(centres: np.ndarray, step: float) -> bool:
-    return centres.size < 2 or (step > 0 and bool(np.allclose(np.diff(centres), step, rtol=1e-3, atol=0.0)))
-
-
-def _cell_image(ax, ends: np.ndarray, starts: np.ndarray, slopes: np.ndarray, end_step: float, start_step: float,
-                cmap, norm):
-    """The cells as one small embedded picture, with thin paper-coloured lines between them.
-
-    A mesh of several hundred cells becomes one SVG path per cell, which took a third of the report's drawing
-    time; the picture is a few kilobytes and the page's Content-Security-Policy allows ``data:`` images.
-    ``interpolation="none"`` keeps one pixel per cell, scaled by the browser without blurring; the lines sit
-    under the outline of the claimed window, as the mesh did.
-    """
-    left, right = ends[0] - end_step / 2, ends[-1] + end_step / 2
-    bottom, top = starts[0] - start_step / 2, starts[-1] + start_step / 2
-    image = ax.imshow(np.ma.masked_invalid(slopes), cmap=cmap, norm=norm, origin="lower", aspect="auto",
-                      interpolation="none", extent=(left, right, bottom, top))
-    ax.vlines(ends[:-1] + end_step / 2, bottom, top, colors=palette.PAPER, linewidth=0.3, zorder=0.5)
-    ax.hlines(starts[:-1] + start_step / 2, left, right, colors=palette.PAPER, linewidth=0.3, zorder=0.5)
-    ax.set_xlim(left, right)
-    ax.set_ylim(bottom, top)
-    return image
+def nearby_windows(doc: dict[str, Any]) -> tuple[np.ndarray, np.ndarray, np.ndarray, int]:
+    """Every nearby window with a trend, ranked from the flattest to the steepest: (trends in the rate unit,
+    starts, ends, the claimed window's place in that order). The claimed window is the grid's middle cell."""
+    cherry = doc["cherry_pick"]
+    starts, ends = stored_array(cherry["start_times"]), stored_array(cherry["end_times"])
+    slopes = np.array([stored_array(row) for row in cherry["slopes"]], dtype=float).reshape(starts.size, ends.size)
+    start_grid, end_grid = np.meshgrid(starts, ends, indexing="ij")
+    claimed = np.zeros(slopes.shape, dtype=bool)
+    claimed[starts.size // 2, ends.size // 2] = True
+    keep = np.isfinite(slopes)
+    order = np.argsort(slopes[keep], kind="stable")
+    ranked_claimed = np.flatnonzero(claimed[keep][order])
+    trends = slopes[keep][order] * Rate.of(doc).factor
+    return trends, start_grid[keep][order], end_grid[keep][order], int(ranked_claimed[0]) if ranked_claimed.size else -1
 
 
 @styled
 def _sensitivity_chart(doc: dict[str, Any]) -> Figure:
     rate = Rate.of(doc)
-    cherry = doc["cherry_pick"]
-    starts, ends = stored_array(cherry["start_times"]), stored_array(cherry["end_times"])
-    slopes = np.array([stored_array(row) for row in cherry["slopes"]], dtype=float).reshape(starts.size, ends.size)
-    slopes = slopes * rate.factor
-    fig = new_figure(6.4)
+    trends, _, _, claimed = nearby_windows(doc)
+    long_term = doc["long_term"]
+    fig = new_figure(CHART_WIDTH)
     ax = fig.add_subplot()
-    ax.grid(False)
-    cmap = palette.SLOPE_DIVERGING.with_extremes(bad="#ececec")
-    norm = _centred_norm(slopes, rate.scaled(doc["long_term"].get("slope")))
-    # The matrix is centred on the claimed window: its middle row and column.
-    start_step = starts[1] - starts[0] if starts.size > 1 else 1.0
-    end_step = ends[1] - ends[0] if ends.size > 1 else 1.0
-    if _evenly_spaced(starts, start_step) and _evenly_spaced(ends, end_step):
-        mesh = _cell_image(ax, ends, starts, slopes, end_step, start_step, cmap, norm)
-    else:
-        mesh = ax.pcolormesh(ends, starts, np.ma.masked_invalid(slopes), shading="nearest", cmap=cmap, norm=norm,
-                             edgecolors=palette.PAPER, linewidth=0.3)
-    ax.add_patch(Rectangle((ends[ends.size // 2] - end_step / 2, starts[starts.size // 2] - start_step / 2),
-                           end_step, start_step, fill=False, edgecolor=palette.INK, linewidth=2.2,
-                           label="The claimed window"))
-    _cell_ticks(ax.set_xticks, ends, doc)
-    _cell_ticks(ax.set_yticks, starts, doc)
-    ax.set_xlabel("Window ends")
-    ax.set_ylabel("Window starts")
-    bar = lay_out(fig, ax, plot_height=3.0, colorbar_mappable=mesh)
-    bar.set_label(f"Window trend ({rate.axis_unit})")
-    bar.ax.axhline(rate.scaled(doc["long_term"].get("slope")), color=palette.INK, linewidth=1.2)
+    ranks = np.arange(1, trends.size + 1)
+    ci = long_term.get("ci") or []
+    if len(ci) == 2 and all(is_number(v) for v in ci):
+        ax.axhspan(rate.scaled(ci[0]), rate.scaled(ci[1]), color=palette.LONG_TERM, alpha=0.16, linewidth=0,
+                   label=f"Long-term trend's {confidence_text(doc)} range")
+    if is_number(long_term.get("slope")):
+        ax.axhline(rate.scaled(long_term["slope"]), color=palette.LONG_TERM, linewidth=1.8,
+                   label=f"Long-term trend: {rate.text(long_term['slope'])}")
+    if trends.size and np.nanmin(trends) < 0 < np.nanmax(trends):
+        ax.axhline(0.0, color=palette.MUTED, linewidth=0.8, linestyle=(0, (2, 2)))
+    low, high = sensitivity_limits(trends, claimed, ci)
+    inside = (trends >= low) & (trends <= high)
+    ax.plot(ranks[inside], trends[inside], linestyle="none", marker="o", markersize=4.2, color=palette.OBSERVED,
+            label="A nearby window (each end moved a little)")
+    for beyond, edge, marker in ((trends < low, low, "v"), (trends > high, high, "^")):
+        if beyond.any():  # windows far from the claimed one sit on the edge instead of setting the scale
+            ax.plot(ranks[beyond], np.full(int(beyond.sum()), edge), linestyle="none", marker=marker, markersize=4.2,
+                    color=palette.OBSERVED)
+    if claimed >= 0:
+        ax.plot([ranks[claimed]], [trends[claimed]], linestyle="none", marker="o", markersize=9,
+                markerfacecolor=palette.WINDOW, markeredgecolor=palette.INK, markeredgewidth=1.0,
+                label=f"The claimed window, {claim_span(doc)}: {rate.text(doc['cherry_pick'].get('claimed_slope'))}")
+    ax.set_xlim(0, trends.size + 1)
+    ax.set_ylim(low, high)
+    ax.set_xticks([1, trends.size] if trends.size > 1 else [1], ["flattest", "steepest"] if trends.size > 1 else [""])
+    ends_of_row = ax.get_xticklabels()
+    ends_of_row[0].set_horizontalalignment("left")
+    ends_of_row[-1].set_horizontalalignment("right")
+    ax.set_xlabel("Nearby windows, ranked by their trend")
+    ax.set_ylabel(rate.axis_unit)
+    lay_out(fig, ax, plot_height=2.3)
     return fig
+
+
+def sensitivity_limits(trends: np.ndarray, claimed: int, ci) -> tuple[float, float]:
+    """The trend axis of the nearby-windows chart: set by the middle 80% of the windows, the claimed one and the
+    long-term range, never by a few short windows' wild trends (those are drawn on the edge)."""
+    finite = trends[np.isfinite(trends)]
+    anchors = list(np.quantile(finite, [0.1, 0.9])) if finite.size else []
+    if 0 <= claimed < trends.size and math.isfinite(trends[claimed]):
+        anchors.append(float(trends[claimed]))
+    anchors += [float(v) for v in (ci or []) if is_number(v)]
+    if not anchors:
+        return -1.0, 1.0
+    low, high = min(anchors), max(anchors)
+    pad = 0.08 * (high - low) or 0.08 * max(abs(high), 1e-12)
+    return low - pad, high + pad
 
 
 def _sensitivity_description(doc: dict[str, Any]) -> str:
     rate = Rate.of(doc)
     cherry = doc["cherry_pick"]
-    finite = [v for row in cherry["slopes"] for v in row if is_number(v)]
-    low, high = (min(finite), max(finite)) if finite else (math.nan, math.nan)
+    trends, _, _, claimed = nearby_windows(doc)
     starts, ends = cherry["start_times"], cherry["end_times"]
-    rank = cherry.get("claimed_rank_percentile")
-    return (f"Heat map of the trend of every window starting between {time_of(doc, starts[0])} and "
-            f"{time_of(doc, starts[-1])} and ending between {time_of(doc, ends[0])} and {time_of(doc, ends[-1])}. "
-            f"Trends range from {rate.text(low)} to {rate.text(high)}; colours are centred on the long-term trend "
-            f"of {rate.text(doc['long_term'].get('slope'))}. The claimed window ({rate.text(cherry.get('claimed_slope'))}) "
-            f"is outlined" + (f" and ranks at the {ordinal(round(rank))} percentile of its neighbours, 0 being the flattest."
-                              if is_number(rank) else "."))
+    low, high = (float(trends[0]), float(trends[-1])) if trends.size else (math.nan, math.nan)
+    place = (f"The claimed window ({rate.text(cherry.get('claimed_slope'))}) is number {claimed + 1} of "
+             f"{trends.size}, counting from the flattest." if claimed >= 0 else "The claimed window has no trend.")
+    return (f"Dot chart of the trends of {trends.size} windows starting between {time_of(doc, starts[0])} and "
+            f"{time_of(doc, starts[-1])} and ending between {time_of(doc, ends[0])} and {time_of(doc, ends[-1])}, "
+            f"ranked from the flattest ({low:.3g} {rate.axis_unit}) to the steepest ({high:.3g} {rate.axis_unit}). "
+            f"{place} A band shows the long-term trend, {rate.text(doc['long_term'].get('slope'))}, with its "
+            f"{confidence_text(doc)} range {rate.range_text(doc['long_term'].get('ci'))}.")
 
 
 # 4. The segmented fit with its breakpoints and their ranges.
 
 @styled
 def _segments_chart(doc: dict[str, Any]) -> Figure:
-    fig = new_figure(7.0)
+    fig = new_figure(CHART_WIDTH)
     ax = fig.add_subplot()
     curves, segments = doc["curves"], doc["segments"]
     t = stored_array(curves["time"])
@@ -305,7 +289,7 @@ def _segments_chart(doc: dict[str, Any]) -> Figure:
         ax.plot(t, stored_array(fitted), color=palette.SEGMENTS, linewidth=2.2, label="Joined straight segments")
     claim = doc["claim"]
     ax.axvline(claim["start"], color=palette.WINDOW, linewidth=1.2, label=f"Claimed start: {time_of(doc, claim['start'])}")
-    lay_out(fig, ax, plot_height=2.5, legend_columns=2, title=_name_document_values(ax, doc))
+    lay_out(fig, ax, plot_height=2.5, title=_name_document_values(ax, doc))  # one column: reads on a phone
     return fig
 
 
@@ -326,7 +310,7 @@ def _segments_description(doc: dict[str, Any]) -> str:
 @styled
 def _detectability_chart(doc: dict[str, Any]) -> Figure:
     detect = doc["detectability"]
-    fig = new_figure(7.0)
+    fig = new_figure(CHART_WIDTH)
     ax = fig.add_subplot()
     curve = detect.get("curve") or []
     years = stored_array([point["years"] for point in curve])
@@ -382,8 +366,9 @@ def _caption_null(doc):
 
 
 def _caption_sensitivity(doc):
-    return ("The trend of every window whose start and end lie near the claimed ones. A claim that holds only "
-            "for one cell, or sits at the edge of the colours, depends on exactly where the window was cut.")
+    return ("Each dot is the trend of a window whose start and end lie near the claimed ones, ranked from the "
+            "flattest to the steepest. A claimed window at the very end of the row, far from the rest, depends on "
+            "exactly where it was cut; one among many similar dots does not.")
 
 
 def _caption_segments(doc):
@@ -411,7 +396,7 @@ CHARTS: dict[str, ChartSpec] = {spec.name: spec for spec in (
 @styled
 def preview_chart(time: np.ndarray, value: np.ndarray, label: str, units: str) -> Figure:
     """The small picture of what was read, shown before the audit runs."""
-    fig = new_figure(6.4)
+    fig = new_figure(CHART_WIDTH)
     ax = fig.add_subplot()
     ax.plot(*broken_at_gaps(np.asarray(time, dtype=float), np.asarray(value, dtype=float)), color=palette.OBSERVED,
             linewidth=0.9)

@@ -12,7 +12,9 @@ from typing import Any
 from urllib.parse import urlsplit
 
 from app.report.claim_context import ClaimView, claim_view, window_change_text, window_words
-from app.report.numbers import Rate, format_p, format_percent, format_probability, format_years, is_number, time_of
+from app.report.plain_words import (ROBUSTNESS_HEADINGS, KeyNumberWords, Words, fit_words, key_number_words,
+                                    plain_paragraph, what_would_change)
+from app.report.numbers import Rate, format_p, is_number, time_of
 from app.vocabulary import (ACCELERATION, CHANGE_SUPPORTED, CONSISTENT, CONTRADICTED, LEVEL_SHIFT, MODEL_DEPENDENT,
                             NO_TREND, OTHER_CHANGE, PAUSE, REVERSAL, SLOWDOWN, TOO_SHORT)
 
@@ -65,6 +67,8 @@ class RobustnessView:
     verdict: str
     holds: str
     fit: str = ""  # AICc above the best noise model, "+0.0" for the best; empty for rows that are not noise models
+    heading: str = ""  # what the row assumes about the year-to-year swings, in plain words
+    fit_words: str = ""  # "best fit", "about as good a fit", ...
 
 
 @dataclass(frozen=True)
@@ -109,7 +113,6 @@ class ReportContext:
     summary: str
     reasons: tuple[str, ...]
     what_would_change: tuple[str, ...]
-    key_numbers: tuple[KeyNumber, ...]
     robustness: tuple[RobustnessView, ...]
     p_window_header: str
     nonparametric: str
@@ -126,6 +129,9 @@ class ReportContext:
     links: Links
     created_at: str
     seasonal_sentence: str = ""  # what was done about a seasonal cycle, said beside the verdict
+    plain: tuple[Words, ...] = ()
+    change_brief: str = ""
+    key_words: tuple[KeyNumberWords, ...] = ()
 
 
 def safe_href(url: str | None) -> str | None:
@@ -179,33 +185,6 @@ def summary_text(doc: dict[str, Any], summary: str) -> str:
     return f"{summary} Over the claimed window the series' own trend amounts to {change}.".strip()
 
 
-def simulation_error(se: Any) -> str:
-    """One short phrase for a simulated p-value's Monte Carlo error."""
-    if not is_number(se) or se < 0:
-        return ""
-    return f"; simulation error ±{se:.1g}" if se > 0 else "; simulation error ±0 (every simulation agreed)"
-
-
-def _key_numbers(doc: dict[str, Any], rate: Rate, conf: str) -> tuple[KeyNumber, ...]:
-    lt, win, ref = doc["long_term"], doc["window"], doc["reference"]
-    change, spell, detect = doc["trend_change"], doc["spell"], doc["detectability"]
-    return (
-        KeyNumber("Long-term trend", rate.text(lt.get("slope")),
-                  f"{conf} range {rate.range_text(lt.get('ci'))}; over {time_of(doc, ref.get('start'))} to "
-                  f"{time_of(doc, ref.get('end'))}" + (f" ({ref['note']})" if ref.get("note") else "")),
-        KeyNumber("Trend in the claimed window", rate.text(win.get("slope")),
-                  f"{conf} range {rate.range_text(win.get('ci'))}; {win.get('n')} data points"),
-        KeyNumber("Evidence of a change during the claimed window", format_p(change.get("p_value_adjusted")),
-                  f"allowing for the choice of both ends ({format_p(change.get('p_value_nominal'))} "
-                  "if the window had been fixed in advance); small values mean evidence of a change"
-                  + simulation_error(change.get("p_value_adjusted_se"))),
-        KeyNumber("Chance of a spell like this anywhere in the record", format_probability(spell.get("probability")),
-                  "if the long-term trend simply continued with this series' natural variability"),
-        KeyNumber("Years of data needed to detect the trend", format_years(detect.get("years_to_detect")),
-                  f"the claimed window spans {format_years(detect.get('window_years'))} years"),
-    )
-
-
 def _robustness(doc: dict[str, Any], rate: Rate) -> tuple[RobustnessView, ...]:
     chosen = _get(doc, "noise", "kind", default="ar1")
     rows = []
@@ -221,6 +200,8 @@ def _robustness(doc: dict[str, Any], rate: Rate) -> tuple[RobustnessView, ...]:
             verdict=VERDICT_LABELS.get(row.get("code"), str(row.get("code"))),
             holds="Yes" if row.get("holds") else "No",
             fit=f"+{row['criterion_delta']:.1f}" if is_number(row.get("criterion_delta")) else "",
+            heading=ROBUSTNESS_HEADINGS.get(row.get("method"), str(row.get("method"))),
+            fit_words=fit_words(row.get("criterion_delta")),
         ))
     return tuple(rows)
 
@@ -332,6 +313,7 @@ def report_context(*, audit_id: str, title: str, created_at: Any, document: dict
     verdict = doc.get("verdict") or {}
     code = verdict.get("code", "")
     base = base_url.rstrip("/")
+    link = permalink or f"{base}/audits/{audit_id}"
     return ReportContext(
         id=audit_id,
         title=title,
@@ -343,7 +325,6 @@ def report_context(*, audit_id: str, title: str, created_at: Any, document: dict
         summary=summary_text(doc, verdict.get("summary", "")),
         reasons=tuple(verdict.get("reasons") or ()),
         what_would_change=tuple(verdict.get("what_would_change") or ()),
-        key_numbers=_key_numbers(doc, rate, conf),
         robustness=_robustness(doc, rate),
         p_window_header=("Window's trend stronger than the long-term one? (p)" if _get(doc, "claim", "kind") ==
                          "acceleration" else "Window's trend weaker than the long-term one? (p)"),
@@ -358,8 +339,11 @@ def report_context(*, audit_id: str, title: str, created_at: Any, document: dict
         source=source_view,
         provenance=_provenance(audit_id, title, doc, source_view, created),
         ingest_notes=tuple(_get(doc, "inputs", "notes", default=())),
-        links=Links(permalink=permalink or f"{base}/audits/{audit_id}", json=f"/api/v1/audits/{audit_id}",
+        links=Links(permalink=link, json=f"/api/v1/audits/{audit_id}",
                     csv=f"/api/v1/audits/{audit_id}/data.csv", delete=f"/audits/{audit_id}/delete"),
         created_at=created,
         seasonal_sentence=str(_get(doc, "inputs", "seasonal", "sentence", default="") or ""),
+        plain=plain_paragraph(doc),
+        change_brief=what_would_change(doc),
+        key_words=key_number_words(doc, conf),
     )

@@ -18,7 +18,7 @@ from matplotlib.ticker import PercentFormatter
 from app.report import palette
 from app.report.charts import LABEL_WRAP, ChartSpec, broken_at_gaps, observed_line, stored_array
 from app.report.correlation_context import relationship, weakest_window
-from app.report.figures import lay_out, new_figure, styled
+from app.report.figures import CHART_WIDTH, lay_out, new_figure, styled
 from app.report.numbers import format_percent, format_time, is_number
 
 CORRELATION_CHART_NAMES = ("series", "rolling", "null")
@@ -55,7 +55,7 @@ def _r(value: Any) -> str:
 def _series_chart(doc: dict[str, Any]) -> Figure:
     curves = doc["curves"]
     t = stored_array(curves.get("time"))
-    fig = new_figure(7.0)
+    fig = new_figure(CHART_WIDTH)
     ax = fig.add_subplot()
     observed_line(ax, t, stored_array(curves.get("response")), label=f"{_label(doc, 'response')} (left axis)",
                   colour=palette.LONG_TERM)
@@ -99,7 +99,7 @@ def _rolling_chart(doc: dict[str, Any]) -> Figure:
     rolling = (doc.get("curves") or {}).get("rolling") or {}
     stored = doc.get("rolling") or {}
     starts = stored_array(rolling.get("start"))
-    fig = new_figure(7.0)
+    fig = new_figure(CHART_WIDTH)
     ax = fig.add_subplot()
     lower, upper = stored_array(rolling.get("lower")), stored_array(rolling.get("upper"))
     if lower.size == starts.size and starts.size:
@@ -151,7 +151,7 @@ def _null_chart(doc: dict[str, Any]) -> Figure:
     null, stored = doc.get("null") or {}, doc.get("rolling") or {}
     histogram = null.get("share_histogram") or {}
     edges, counts = stored_array(histogram.get("edges")), stored_array(histogram.get("counts"))
-    fig = new_figure(7.0)
+    fig = new_figure(CHART_WIDTH)
     ax = fig.add_subplot()
     if edges.size > 1 and counts.sum() > 0:
         ax.stairs(counts / counts.sum(), edges, fill=True, color=palette.SIMULATED,

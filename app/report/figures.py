@@ -31,10 +31,10 @@ STYLE = {
     "text.usetex": False,
     "font.family": "sans-serif",
     "font.sans-serif": ["DejaVu Sans", "Arial", "Helvetica"],
-    "font.size": 9.0,
+    "font.size": 9.5,
     "axes.edgecolor": palette.MUTED,
     "axes.labelcolor": palette.INK,
-    "axes.titlesize": 9.5,
+    "axes.titlesize": 10.0,
     "axes.spines.top": False,
     "axes.spines.right": False,
     "axes.grid": True,
@@ -45,7 +45,7 @@ STYLE = {
     "xtick.labelcolor": palette.INK,
     "ytick.labelcolor": palette.INK,
     "legend.frameon": False,
-    "legend.fontsize": 8.0,
+    "legend.fontsize": 9.0,
     "figure.facecolor": palette.PAPER,
     "axes.facecolor": palette.PAPER,
     "savefig.facecolor": palette.PAPER,
@@ -63,13 +63,14 @@ _REFERENCE = re.compile(r"#([-\w.:]+)")
 # Fixed margins, in inches, instead of matplotlib's constrained layout: that solver measures every
 # text twice and took about half of each chart's drawing time. These fit tick labels of up to six
 # characters, one axis label, and a legend of short lines under the plot.
+CHART_WIDTH = 5.4  # inches: scaled to a 300-pixel phone column, 9-point lettering stays about 7 pixels high
 MARGIN_LEFT = 0.85
 MARGIN_RIGHT = 0.2
 MARGIN_TOP = 0.12
-TITLE_LINE = 0.19
+TITLE_LINE = 0.2
 X_TICKS_SPACE = 0.3  # tick labels under the plot
 X_LABEL_SPACE = 0.2  # the axis label under them, when there is one
-LEGEND_ROW = 0.185  # measured: 8-point legend text with matplotlib's default spacing
+LEGEND_ROW = 0.208  # measured for 8-point legend text (0.185) and scaled to 9 points
 LEGEND_PAD = 0.14
 LEGEND_FOOT = 0.05
 COLORBAR_SPACE = 1.25  # the colour scale, its ticks and its label, right of the plot

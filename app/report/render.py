@@ -24,7 +24,11 @@ from app.report.charts import CHART_NAMES
 from app.report.context import ReportContext, report_context
 from app.report.correlation_context import correlation_context
 from app.report.palette import PALETTE_NAME
+from app.report.plain_words import GLOSSARY
+from app.report.sharing import share_view
 from app.settings import shipped_dir
+
+LEAD_CHART = "series"
 
 _environment: Environment | None = None
 
@@ -36,7 +40,7 @@ def environment() -> Environment:
         env = Environment(loader=FileSystemLoader(str(shipped_dir("templates"))),
                           autoescape=select_autoescape(enabled_extensions=("html", "svg"), default=True),
                           undefined=StrictUndefined, trim_blocks=True, lstrip_blocks=True)
-        env.globals.update(software_version=__version__, palette_name=PALETTE_NAME)
+        env.globals.update(software_version=__version__, palette_name=PALETTE_NAME, glossary=GLOSSARY)
         _environment = env
     return _environment
 
@@ -91,10 +95,15 @@ def report_values(audit: Any, *, source: Mapping[str, Any] | None = None, base_u
     context, charts = report_parts(audit, source=source, base_url=base_url, shelf=shelf)
     by_name = {chart.name: chart for chart in charts}
     adjusted_chart = by_name.get(ADJUSTED_CHART_NAME)
-    evidence = tuple(by_name[name] for name in CHART_NAMES if name in by_name)
-    in_page_order = ((adjusted_chart,) if adjusted_chart else ()) + evidence
-    return {"report": context, "adjustment": adjustment_view(stored_result(audit).document),
-            "adjusted_chart": adjusted_chart, "evidence_charts": evidence, "charts": in_page_order,
+    lead_chart = by_name.get(LEAD_CHART)  # the one chart at the top, for readers who go no further
+    evidence = tuple(by_name[name] for name in CHART_NAMES if name in by_name and name != LEAD_CHART)
+    in_page_order = ((lead_chart,) if lead_chart else ()) + ((adjusted_chart,) if adjusted_chart else ()) + evidence
+    stored = stored_result(audit)
+    share = share_view(kind="audit", record_id=stored.id, title=stored.title, created_at=stored.created_at,
+                       doc=stored.document, permalink=context.links.permalink, base_url=base_url)
+    return {"report": context, "adjustment": adjustment_view(stored.document), "share": share,
+            "adjusted_chart": adjusted_chart, "evidence_charts": evidence,
+            "lead_chart": lead_chart, "claim": stored.document.get("claim") or {}, "charts": in_page_order,
             "chart_numbers": {chart.name: number for number, chart in enumerate(in_page_order, start=1)},
             "noindex": True, "page_title": f"{context.title} - Trend Audit", "owner": owner}
 
@@ -114,7 +123,9 @@ def correlation_values(correlation: Any, *, source: Mapping[str, Any] | None = N
                                   document=stored.document, source=dict(source or stored.source or {}),
                                   base_url=base_url, permalink=stored.report_url)
     charts = chart_views(stored.id, stored.document, CORRELATION_CHARTS, shelf)
-    return {"report": context, "charts": charts, "noindex": True, "page_title": f"{context.title} - Trend Audit",
+    share = share_view(kind="correlation", record_id=stored.id, title=stored.title, created_at=stored.created_at,
+                       doc=stored.document, permalink=context.links.permalink, base_url=base_url)
+    return {"report": context, "charts": charts, "share": share, "noindex": True, "page_title": f"{context.title} - Trend Audit",
             "chart_numbers": {chart.name: number for number, chart in enumerate(charts, start=1)}, "owner": owner}
 
 

@@ -47,7 +47,12 @@ audits_table = sa.table(
 
 
 def new_audit_id() -> str:
-    return secrets.token_urlsafe(ID_BYTES)
+    """A random id that starts and ends with a letter or digit, so a permanent link wrapped at a line's end
+    or quoted beside punctuation never loses a leading '-' or '_' (one draw in 16 needs a second)."""
+    while True:
+        candidate = secrets.token_urlsafe(ID_BYTES)
+        if candidate[0].isalnum() and candidate[-1].isalnum():
+            return candidate
 
 
 def token_digest(token: str) -> str:

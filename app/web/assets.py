@@ -11,8 +11,10 @@ from fastapi.responses import FileResponse, Response
 
 from app.dependencies import get_runtime
 from app.errors import Location, NotFound
+from app.report.card import CARD_FORMATS, card_file
 from app.report.chart_cache import MEDIA_TYPES, chart_file
-from app.service.records import RecordKind, read_record
+from app.report.sharing import absolute
+from app.service.records import RecordKind, read_record, record_body
 from app.settings import shipped_dir
 
 router = APIRouter(include_in_schema=False)
@@ -46,3 +48,15 @@ def chart_response(request: Request, kind: RecordKind, record_id: str, filename:
     return Response(body, media_type=MEDIA_TYPES[fmt], headers={
         "Content-Disposition": f'inline; filename="trendaudit-{record.id}-{name}.{fmt}"',
         "Cache-Control": "public, max-age=86400"})  # security headers: app.security, on every answer
+
+
+def card_response(request: Request, kind: RecordKind, record_id: str, fmt: str, shape: str) -> Response:
+    """The record's verdict card (wide or square) as SVG or PNG, or its text alternative."""
+    runtime = get_runtime(request)
+    record = read_record(runtime.audits, kind, record_id)
+    permalink = absolute(record_body(kind, record, runtime.settings)["report_url"], str(request.base_url))
+    body = card_file(kind.charts.kind, record.id, record.title, record.result_document, permalink, shape, fmt)
+    suffix = "" if shape == "wide" else f"-{shape}"
+    return Response(body, media_type=CARD_FORMATS[fmt], headers={
+        "Content-Disposition": f'inline; filename="trendaudit-{record.id}-card{suffix}.{fmt}"',
+        "Cache-Control": "public, max-age=86400"})

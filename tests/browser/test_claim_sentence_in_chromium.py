@@ -31,7 +31,7 @@ def test_a_pasted_sentence_becomes_the_claim_at_the_top_of_the_report(page, serv
     page.get_by_role("button", name="Run the audit").click()
     page.wait_for_url(CREATED_AUDIT, timeout=120_000)
 
-    claim = page.locator("section.claim-as-said")
+    claim = page.locator("section.claim")
     assert claim.count() == 1
     text = claim.inner_text()
     assert SENTENCE in text and "An Invented Columnist, The Invented Weekly, 2013-03-01" in text

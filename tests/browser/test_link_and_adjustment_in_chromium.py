@@ -31,7 +31,7 @@ def test_a_driver_and_response_audit_from_a_sample_reads_its_verdict(page, serve
     created = _run_link_audit(page, server)
     token = page.locator("#owner-token-field").input_value()
     assert len(token) >= 32
-    assert page.locator("button[data-copy]").is_visible()  # the script offers to copy it
+    assert page.locator("button[data-copy=owner-token-field]").is_visible()  # the script offers to copy it
     assert page.evaluate("() => document.activeElement.id") == "created"  # announced first
     label = page.inner_text(".verdict-label")
     assert any(text in label for text in CORRELATION_VERDICT_LABELS.values())

@@ -71,11 +71,11 @@ def test_the_report_renders_what_was_stored_and_recomputes_nothing(adjusted):
     assert "7.65" in html
 
 
-def test_the_raw_and_adjusted_chart_comes_first_and_downloads_like_the_others(adjusted):
+def test_the_raw_and_adjusted_chart_follows_the_lead_chart_and_downloads_like_the_others(adjusted):
     html = render_report(stored_body(json.dumps(adjusted), audit_id=AUDIT_ID))
     assert html.count("<figure") == 6 and html.count('role="img"') == 6
-    assert '<h3 id="chart-adjusted-heading">1. As measured and adjusted for ocean_index</h3>' in html
-    assert '<h3 id="chart-series-heading">2. ' in html
+    assert '<h3 id="chart-series-heading">1. ' in html  # the one chart in the top part
+    assert '<h3 id="chart-adjusted-heading">2. As measured and adjusted for ocean_index</h3>' in html
     assert f'href="/audits/{AUDIT_ID}/charts/adjusted.svg"' in html
     svg = chart_file(AUDIT_ID, adjusted, "adjusted", "inline")
     assert "As measured" in svg and "Adjusted for ocean_index" in svg

@@ -13,7 +13,7 @@ import pytest
 
 from app.report import chart_cache
 from app.report.chart_cache import chart_file, chart_views
-from app.report.charts import CHART_NAMES, CHARTS
+from app.report.charts import CHART_NAMES, CHARTS, nearby_windows
 from app.report.figures import as_standalone, inline_svg, labelled_svg
 from app.report.numbers import Rate
 
@@ -143,27 +143,27 @@ def test_lines_break_where_values_are_missing():
     assert not np.isnan(whole_t).any()
 
 
-def test_the_sensitivity_cells_are_one_embedded_picture_on_an_even_grid(document):
-    # Hundreds of cells as one path each took a third of the report's drawing time.
-    svg = chart_file("audit-cells", document, "sensitivity", "inline")
-    root = ET.fromstring(svg)  # also fails on an attribute written twice
+def test_nearby_windows_are_ranked_dots_with_the_claimed_one_among_them(document):
     cherry = document["cherry_pick"]
-    grid = (str(len(cherry["end_times"])), str(len(cherry["start_times"])))
-    cells = [image for image in root.iter(f"{SVG_NS}image") if (image.get("width"), image.get("height")) == grid]
-    assert len(cells) == 1  # one pixel per window; the colour scale is the other picture
-    assert cells[0].get("{http://www.w3.org/1999/xlink}href").startswith("data:image/png;base64,")
-    assert cells[0].get("image-rendering") == "pixelated" and cells[0].get("style") is None
+    trends, starts, ends, claimed = nearby_windows(document)
+    finite = [v for row in cherry["slopes"] for v in row if v is not None]
+    assert trends.size == len(finite) and np.all(np.diff(trends) >= 0)  # flattest first
+    middle = (cherry["start_times"][len(cherry["start_times"]) // 2], cherry["end_times"][len(cherry["end_times"]) // 2])
+    assert (starts[claimed], ends[claimed]) == middle
+    assert trends[claimed] == pytest.approx(cherry["claimed_slope"] * Rate.of(document).factor)
+    svg = chart_file("audit-dots", document, "sensitivity", "inline")
+    assert "<image" not in svg  # dots and a band, no colour picture
+    description = re.search(r"<desc [^>]*>(.*?)</desc>", svg, re.S).group(1)
+    assert f"number {claimed + 1} of {trends.size}" in description
 
 
-def test_an_uneven_grid_of_windows_still_draws_each_cell_where_it_belongs(document):
+def test_an_uneven_grid_of_windows_still_ranks_every_window(document):
     cherry = document["cherry_pick"]
     starts = cherry["start_times"]
-    even = chart_file("audit-even", document, "sensitivity", "inline")
     cherry["start_times"] = starts[:-1] + [starts[-1] + 3 * (starts[-1] - starts[-2])]
-    uneven = chart_file("audit-uneven", document, "sensitivity", "inline")
-    assert uneven.count("<image") == even.count("<image") - 1  # the cells as a mesh, the colour scale as before
-    assert uneven.count("<path") > even.count("<path") + len(starts) * len(cherry["end_times"]) // 2
-    ET.fromstring(uneven)
+    trends, _, _, claimed = nearby_windows(document)
+    assert trends.size == sum(v is not None for row in cherry["slopes"] for v in row) and claimed >= 0
+    ET.fromstring(chart_file("audit-uneven", document, "sensitivity", "inline"))
 
 
 def test_a_property_declared_twice_becomes_one_attribute_with_the_last_value():
@@ -194,11 +194,9 @@ def test_views_of_one_record_arriving_together_draw_its_charts_once(document, mo
     assert len(results) == 4 and all(result is results[0] for result in results)
 
 
-def test_the_sensitivity_colours_reach_as_far_as_the_windows_near_the_claim():
-    from app.report.charts import _centred_norm
+def test_the_sensitivity_scale_is_set_by_the_windows_near_the_claim():
+    from app.report.charts import sensitivity_limits
 
-    slopes = np.full((13, 13), 1.0)
-    slopes[6, 6] = 1.5  # the claimed window
-    slopes[0, 12] = 40.0  # a far corner, e.g. a short window's wild trend
-    norm = _centred_norm(slopes, 1.0)
-    assert (norm.vmin, norm.vmax) == pytest.approx((0.5, 1.5))
+    trends = np.concatenate([np.linspace(0.9, 1.1, 98), [40.0, -35.0]])  # two short windows' wild trends
+    low, high = sensitivity_limits(np.sort(trends), 50, (0.8, 1.2))
+    assert -0.5 < low < 0.8 and 1.2 < high < 2.0

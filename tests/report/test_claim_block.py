@@ -41,9 +41,9 @@ def test_the_change_over_the_window_is_its_slope_times_its_span(document):
 def test_the_summary_gives_the_change_and_the_key_numbers_the_simulation_error(document):
     context = report_context(audit_id="abc", title="t", created_at=CREATED, document=document)
     assert "Over the claimed window the series' own trend amounts to about " in context.summary
-    change = next(k for k in context.key_numbers if k.label.startswith("Evidence of a change"))
+    change = next(k for k in context.key_words if k.label.startswith("A change during the window"))
     se = document["trend_change"]["p_value_adjusted_se"]
-    assert se > 0 and f"simulation error ±{se:.1g}" in change.detail
+    assert se > 0 and f"simulation error ±{se:.1g}" in " ".join(str(w.text) for w in change.detail)
 
 
 def test_the_claim_block_is_escaped_and_at_the_top(document):
@@ -52,12 +52,14 @@ def test_the_claim_block_is_escaped_and_at_the_top(document):
     assert "<script>alert" not in page and "&lt;script&gt;" in page
     assert "&lt;i&gt;Someone&lt;/i&gt;, Weekly, 2013-03-01" in page
     assert 'href="javascript' not in page
-    assert page.index('class="claim-as-said"') < page.index('id="evidence"')
+    assert page.index('class="claim"') < page.index('id="evidence"')
 
 
-def test_no_claim_record_no_block(document):
+def test_no_claim_record_no_quote(document):
     assert report_context(audit_id="abc", title="t", created_at=CREATED, document=document).claim is None
-    assert 'class="claim-as-said"' not in render_report(stored(document))
+    page = render_report(stored(document))
+    assert 'class="claim-quote"' not in page and 'class="claim-source"' not in page
+    assert page.index('class="claim"') < page.index('id="evidence"')  # what was audited is always said
 
 
 def test_the_correlation_report_shows_its_claim_too():
@@ -67,11 +69,3 @@ def test_the_correlation_report_shows_its_claim_too():
     assert context.claim.text == "CO2 rose but it cooled"
     page = render_correlation_report({**document, "id": "abc", "title": "t", "created_at": CREATED})
     assert "CO2 rose but it cooled" in page and "(Someone)" in page
-
-
-def test_ordinals_are_written_right(document):
-    from app.report.charts import _sensitivity_description
-
-    for rank, words in ((81.2, "81st"), (12.0, "12th"), (22.4, "22nd"), (3.0, "3rd")):
-        document["cherry_pick"]["claimed_rank_percentile"] = rank
-        assert f"ranks at the {words} percentile" in _sensitivity_description(document)

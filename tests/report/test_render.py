@@ -16,14 +16,16 @@ CITATIONS = ("Santer et al. (2008)", "Foster &amp; Rahmstorf (2011)", "Weatherhe
              "Bai &amp; Perron (1998, 2003)", "Hamed &amp; Rao (1998)", "Sen’s (1968)", "Mann 1945", "Kendall 1975")
 
 
-def test_the_verdict_comes_first_then_the_numbers_then_the_evidence(document):
+def test_the_claim_and_verdict_come_first_then_one_chart_then_the_evidence_in_detail(document):
     html = render_report(stored_body(json.dumps(document)))
     order = outline(html).order
     headings = [item for item in order if item.startswith("h")]
-    assert headings[0] == "h1:Has it stopped?"
-    assert headings[1] == "h2:" + document["verdict"]["headline"]
-    assert headings[2] == "h2:The key numbers"
-    assert order.index("figure") > order.index(headings[2])
+    assert headings[:3] == ["h1:Has it stopped?", "h2:The claim", "h2:" + document["verdict"]["headline"]]
+    assert headings[3].startswith("h3:1. The series")  # the one chart in the top part
+    assert headings[4:6] == ["h2:The evidence in detail", "h2:The key numbers"]
+    assert order.index("figure") < order.index("h2:The evidence in detail")
+    later = [item for item in headings if item.startswith("h2:")]
+    assert later.index("h2:Cautions") < later.index("h2:Methods and sources") < later.index("h2:Where the data came from")
     assert VERDICT_LABELS[document["verdict"]["code"]] in html
     assert document["verdict"]["summary"].replace("'", "&#39;") in html
 
@@ -116,9 +118,9 @@ def test_undetermined_numbers_are_said_in_words(document):
     document["window"]["ci"] = [None, None]
     document["long_term"]["slope"] = None
     context = report_context(audit_id="x", title="t", created_at=CREATED, document=document)
-    window = next(n for n in context.key_numbers if n.label == "Trend in the claimed window")
-    assert "95% range undetermined" in window.detail
-    assert context.key_numbers[0].value == "undetermined"
+    window = next(n for n in context.key_words if n.label == "The claimed window")
+    assert "95% range undetermined" in window.detail[0].text
+    assert context.key_words[0].value == "undetermined"
 
 
 def test_sample_document_is_a_json_round_trip():

@@ -157,3 +157,11 @@ def test_concurrent_creates_all_land(repository):
     assert run_together(create_many) == []
     assert len(set(ids)) == 40
     assert {i.id for i in repository.list(limit=100).items} == set(ids)
+
+
+def test_new_ids_start_and_end_with_a_letter_or_digit():
+    from app.store.audits import new_audit_id
+
+    ids = [new_audit_id() for _ in range(2000)]  # about 120 plain draws of 2000 would start or end with '-' or '_'
+    assert all(i[0].isalnum() and i[-1].isalnum() and len(i) == 24 for i in ids)
+    assert len(set(ids)) == len(ids)

@@ -48,11 +48,11 @@ def test_the_claim_reaches_the_report_and_the_history(client):
         "claim_end": "2012", "claim_kind": "pause", "claim_text": SENTENCE, "claim_claimant": "A. Columnist",
         "claim_outlet": "The Invented Weekly", "claim_made_on": "2013-03-01", "units": "°C"})
     report = client.get(report_path(made)).text
-    block = re.search(r'<section class="claim-as-said".*?</section>', report, re.S).group(0)
+    block = re.search(r'<section class="claim".*?</section>', report, re.S).group(0)
     assert "Temperatures have not risen since 1998, &lt;b&gt;said&lt;/b&gt; the columnist" in block
     assert "A. Columnist, The Invented Weekly, 2013-03-01" in block
     assert "1998 to 2012 (15 points)" in block
-    assert report.index("claim-as-said") < report.index('id="evidence"')
+    assert report.index('class="claim"') < report.index('id="evidence"')
     assert re.search(r"over the 15 years", report)  # the change over the window, in the series' own units
     history = client.get("/history").text
     assert "A. Columnist" in history and "Temperatures have not risen" in history
