@@ -7,6 +7,7 @@ from typing import Any
 
 from fastapi import APIRouter, Depends, Request
 
+from app.api.deps import require_api_key
 from app.api.schemas import TrendOut, TrendRequest
 from app.dependencies import get_runtime
 from app.service.runtime import Runtime
@@ -16,7 +17,10 @@ router = APIRouter(prefix="/api/v1", tags=["trend"])
 
 
 @router.post("/trend", response_model=TrendOut, summary="The trend of a series, under several noise models",
-             responses={422: {"description": "The series or window cannot be used; 'where' says which"},
+             dependencies=[Depends(require_api_key)],
+             responses={401: {"description": "Keys are set and none was sent"},
+                        403: {"description": "The key is not one this service accepts"},
+                        422: {"description": "The series or window cannot be used; 'where' says which"},
                         503: {"description": "Compute pool full: retry after the Retry-After seconds"}})
 async def trend(body: TrendRequest, request: Request, runtime: Runtime = Depends(get_runtime)) -> dict[str, Any]:
     """Slopes are per year. `ci` and `p_value` follow the chosen `noise` model (AR(1) by default);

@@ -86,7 +86,8 @@ def prepare_job(*, title: str, series: Series, claim: Claim, options: AuditOptio
     check_claim(claim)
     check_window_in_series(series, claim.start, claim.end)
     check_work(series.n, options.simulations, settings.max_simulated_points)
-    check_lag_cells(series, covariates, covariate_fields or [f"covariates[{i}].max_lag" for i in range(len(covariates))])
+    check_lag_cells(series, covariates, covariate_fields or [f"covariates[{i}].max_lag" for i in range(len(covariates))],
+                    work_limit=settings.lag_search_budget)
     title = title.strip() or default_title(series, claim)
     check_string_lengths({"title": title}, settings.max_string_length)
     document = {

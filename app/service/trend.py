@@ -53,7 +53,8 @@ def compute_trend(body: Any, settings: Settings) -> dict[str, Any]:
     window = trend_window(series, body.start, body.end)
     fit, noise = None, None
     if covariates:
-        check_lag_cells(window, covariates, [f"covariates[{i}].max_lag" for i in range(len(covariates))])
+        check_lag_cells(window, covariates, [f"covariates[{i}].max_lag" for i in range(len(covariates))],
+                        work_limit=settings.lag_search_budget, lag_rule=body.lag_rule)
         noise = body.noise if body.noise in NOISE_KINDS else ADJUSTMENT_FALLBACK_NOISE
         fit = fit_covariates(window.time, window.value, [c.covariate for c in covariates], window.points_per_year,
                              noise_kind=noise, confidence=body.confidence, lag_rule=body.lag_rule)

@@ -17,7 +17,7 @@ from fastapi.responses import HTMLResponse, RedirectResponse
 
 from app.audit import Claim
 from app.dependencies import get_runtime
-from app.errors import AccessDenied, InputError, TrendAuditError
+from app.errors import AccessDenied, InputError, TooManyAttempts, TrendAuditError
 from app.service.audits import audit_options, job_from_csv
 from app.service.creating import create_record
 from app.service.limits import check_string_lengths
@@ -118,12 +118,12 @@ async def run_desk_form(request: Request, *, check: str, make_job: Callable,
     the browser to the page that shows the owner token once; a problem comes back on the preview."""
     settings: Settings = request.app.state.settings
     try:
+        require_access(request, settings, "Creating an audit")  # before the form is read: no work for strangers
         form, filename = await posted_form(request)
     except TrendAuditError as error:
         return desk(request, form=DeskForm(check=check), problem=problem_view(error))
     form = dataclasses.replace(form, check=check)
     try:
-        require_access(request, settings, "Creating an audit")
         job = await run_in_threadpool(make_job, form, filename, settings)
         # The report's charts are drawn now, while the person waits anyway, so the report opens at once.
         record, owner_token, _document = await create_record(get_runtime(request), collection, job, draw_now=True)
@@ -151,7 +151,7 @@ async def history(request: Request, cursor: str | None = None) -> HTMLResponse:
     settings: Settings = request.app.state.settings
     try:
         require_access(request, settings, "Listing audits")
-    except AccessDenied as error:
+    except (AccessDenied, TooManyAttempts) as error:
         return _key_page(request, error, "/history")
     try:
         page = await run_in_threadpool(list_history, get_runtime(request).audits, limit=HISTORY_PAGE_SIZE,
@@ -182,8 +182,8 @@ async def access_submit(request: Request) -> HTMLResponse | RedirectResponse:
     if not keys_required(settings):
         return RedirectResponse(next_path, status_code=303)
     try:
-        check_key(key, settings)
-    except AccessDenied as error:
+        check_key(request, key, settings)
+    except (AccessDenied, TooManyAttempts) as error:
         return _key_page(request, error, next_path)
     response = RedirectResponse(next_path, status_code=303)
     remember_key(response, key, is_secure(request))
