@@ -63,7 +63,9 @@ def make_engine(database_url: str, timeout_seconds: float = DEFAULT_STORE_TIMEOU
     seconds = max(1, int(round(timeout_seconds)))
     engine = create_engine(url, json_serializer=_finite_json, pool_pre_ping=True, pool_timeout=timeout_seconds,
                            connect_args={"connect_timeout": seconds,
-                                         "options": f"-c statement_timeout={seconds * 1000}",
+                                         # added to the URL's own options (a search_path, say), not in their place
+                                         "options": f"{url.query.get('options', '')} "
+                                                    f"-c statement_timeout={seconds * 1000}".strip(),
                                          "keepalives": 1, "keepalives_idle": seconds, "keepalives_interval": 1,
                                          "keepalives_count": 3, "tcp_user_timeout": seconds * 1000})
     connection_class = deadline_connection(timeout_seconds + 1.0)  # past the server's own statement timeout
