@@ -80,7 +80,8 @@ class BodySizeLimit:
 
     async def _refuse(self, scope, send, error=None) -> None:
         error = error or body_too_large(self.max_bytes)
-        response = self.html_refusal(scope, error) if self.html_refusal and getattr(error, "body_too_large", False) else None
+        as_page = self.html_refusal is not None and getattr(error, "body_too_large", False)
+        response = self.html_refusal(scope, error) if as_page else None
         if response is None:
             status, body = problem_for_error(error, instance=scope.get("path"))
             response = problem_response(status, body, headers={"Connection": "close"})

@@ -80,7 +80,7 @@ def test_a_sqlite_store_that_cannot_write_is_a_503_before_computing(sqlite_clien
 def test_a_write_that_fails_anyway_is_a_503_not_a_500(sqlite_client, monkeypatch):
     """The writable check passed, then the disk filled: the insert's own fault is a 503 as well."""
     runtime = sqlite_client.app.state.runtime.get()
-    monkeypatch.setattr(runtime.audits, "check_writable", lambda: None)
+    monkeypatch.setattr(runtime.audits, "check_writable", lambda: None, raising=False)
     pages = runtime.engine.connect().exec_driver_sql("PRAGMA page_count").scalar_one()
     repair = _break_sqlite(runtime.engine, f"PRAGMA max_page_count = {pages}")
     _store_problem(sqlite_client.post("/api/v1/audits", json=audit_body()), "full")
