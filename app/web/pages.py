@@ -55,14 +55,15 @@ def desk(request: Request, *, form: DeskForm, preview: PreviewView | None = None
 
 async def preview_page(request: Request, form: DeskForm, problem: ProblemView | None = None) -> HTMLResponse:
     settings: Settings = request.app.state.settings
+    # The page carries the table back in its form (up to the upload limit): drawn on a worker thread, not the loop.
     try:
         form = sample_filled(form, settings)
         table, sample = await run_in_threadpool(read_table, form, settings)
     except TrendAuditError as error:
-        return desk(request, form=form, problem=problem or problem_view(error))
+        return await run_in_threadpool(lambda: desk(request, form=form, problem=problem or problem_view(error)))
     form = chosen_columns(form, table)
     view = await run_in_threadpool(preview_view, table)
-    return desk(request, form=form, preview=view, problem=problem, sample=sample)
+    return await run_in_threadpool(lambda: desk(request, form=form, preview=view, problem=problem, sample=sample))
 
 
 @router.get("/", response_class=HTMLResponse)
