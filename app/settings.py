@@ -41,6 +41,9 @@ class Settings(BaseSettings):
     trusted_proxies: str = ""
     # Wrong keys a client may send before it is made to wait (a per-client moving window, in memory, per process).
     key_guess_limit: str = "10/minute"
+    # Requests that need no key (the desk's preview always; every create, list and /trend when no keys are set)
+    # one client may send in a moving window, in memory, per process.
+    anonymous_rate_limit: str = "300/minute"
     # Store faults: how long a connection, a statement or a wait for a pooled connection may take before the
     # request is answered 503 (our requirement: a fault is reported within seconds, never a hang).
     store_timeout_seconds: float = 5.0

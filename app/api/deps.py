@@ -18,9 +18,10 @@ def require_api_key(request: Request, settings: Settings = Depends(get_settings)
     """Creating, listing, deleting and computing need a key when keys are configured; reading by id never does.
     Wrong keys are counted per client, and a client past the limit waits (429)."""
     keys = settings.api_key_list
-    if not keys:
-        return
     where = Location(field="Authorization")
+    if not keys:  # every request is anonymous: each client has its own small allowance
+        get_runtime(request).anonymous.spend(client_address(request), where)
+        return
     if credentials is None or not credentials.credentials:
         raise AccessDenied("this action needs an API key", location=where,
                            fix="Send the header 'Authorization: Bearer <key>' with a key from the service's operator")

@@ -17,7 +17,7 @@ from sqlalchemy import Engine
 from app.report.chart_cache import ChartShelf, prepared_charts
 from app.report.chart_sets import ChartSet
 from app.service.chart_drawing import ChartDrawer
-from app.service.guessing import KeyGuessing
+from app.service.guessing import ClientAllowance, KeyGuessing
 from app.service.pool import ComputePool
 from app.service.startup import check_keys, open_store
 from app.settings import Settings
@@ -35,6 +35,7 @@ class Runtime:
     pool: ComputePool
     drawer: ChartDrawer
     guessing: KeyGuessing
+    anonymous: ClientAllowance
 
     def draw_charts_ahead(self, record_id: str, charts: ChartSet) -> None:
         """After a record is stored: its charts are drawn in the background, so its report opens at once."""
@@ -66,7 +67,8 @@ def start_runtime(settings: Settings) -> Runtime:
     drawer = ChartDrawer(charts, lambda record_id: audits.get(record_id).result_document, settings.chart_queue,
                          enabled=settings.draw_charts_ahead, wait_idle=pool.wait_idle)
     return Runtime(settings=settings, engine=engine, audits=audits, charts=charts, pool=pool, drawer=drawer,
-                   guessing=KeyGuessing(settings.key_guess_limit))
+                   guessing=KeyGuessing(settings.key_guess_limit),
+                   anonymous=ClientAllowance(settings.anonymous_rate_limit, "requests without a key"))
 
 
 class RuntimeHolder:

@@ -46,7 +46,15 @@ def has_access(request: Request, settings: Settings) -> bool:
         return False
 
 
+def spend_anonymous(request: Request) -> None:
+    """Counts a request that needs no key against the client's allowance (429 past it)."""
+    get_runtime(request).anonymous.spend(client_address(request), Location(field="request"))
+
+
 def require_access(request: Request, settings: Settings, action: str) -> None:
+    if not keys_required(settings):
+        spend_anonymous(request)
+        return
     if _cookie_accepted(request, settings):
         return
     sent = bool(request.cookies.get(KEY_COOKIE))

@@ -25,7 +25,7 @@ from app.service.payloads import series_payload
 from app.service.records import AUDITS, RecordKind, list_history
 from app.settings import Settings
 from app.web.access import (check_key, forget_key, has_access, keys_required, remember_key, require_access,
-                            safe_next)
+                            safe_next, spend_anonymous)
 from app.web.forms import LINK, TREND, DeskForm, form_choices
 from app.web.owners import created_redirect
 from app.web.periods import first_time_in, last_time_in
@@ -76,6 +76,7 @@ async def home(request: Request, sample: str | None = None, check: str | None = 
 @router.post("/preview", response_class=HTMLResponse)
 async def preview(request: Request) -> HTMLResponse:
     try:
+        spend_anonymous(request)  # no key needed to preview, so each client has its own small allowance
         form, _ = await posted_form(request)
     except TrendAuditError as error:
         return desk(request, form=DeskForm(), problem=problem_view(error))

@@ -151,3 +151,13 @@ def test_the_lag_search_counts_against_a_work_budget(make_client):
     assert make_client(api_keys="").post("/api/v1/trend", json=modest).status_code == 200
     audit = audit_body(covariates=[{"name": f"f{i}", **invented_series(seed=i), "max_lag": 10} for i in range(8)])
     assert "work" in assert_problem(anonymous.post("/api/v1/audits", json=audit), 422)["detail"]
+
+
+def test_requests_without_a_key_have_a_small_allowance_per_client(make_client):
+    """Anonymous work had no per-client limit at all."""
+    open_service = make_client(api_keys="", anonymous_rate_limit="3/minute")
+    small = {"series": invented_series()}
+    assert [open_service.post("/api/v1/trend", json=small).status_code for _ in range(4)] == [200, 200, 200, 429]
+    assert open_service.post("/preview", data={"table": csv_text()}).status_code == 429
+    other = TestClient(open_service.app, client=("203.0.113.7", 5000))
+    assert other.post("/preview", data={"table": csv_text()}).status_code == 200
