@@ -1,6 +1,8 @@
 # A plain image for the service: Python slim, the project installed, uvicorn on port 8000.
-# Storage defaults to SQLite under /app/var; set TRENDAUDIT_DATABASE_URL for PostgreSQL and
-# TRENDAUDIT_API_KEYS before exposing it beyond localhost.
+# Storage defaults to SQLite under /app/var; set TRENDAUDIT_DATABASE_URL for PostgreSQL.
+# The image listens on 0.0.0.0, so it refuses to start without TRENDAUDIT_API_KEYS (keys of 16 characters or
+# more): without keys anyone who reaches it lists every audit's id, title and verdict. An open service is
+# started only when TRENDAUDIT_PUBLIC_DEPLOYMENT=true says so deliberately (README, Hardening).
 FROM python:3.11-slim
 
 ENV PYTHONDONTWRITEBYTECODE=1 \

@@ -6,7 +6,6 @@ as the API (ingest, run_audit or run_correlation, the one serialiser), without a
 from __future__ import annotations
 
 import argparse
-import ipaddress
 import os
 import json
 import logging
@@ -109,34 +108,34 @@ def main(argv: Sequence[str] | None = None) -> int:
 def serve(host: str | None, port: int | None, workers: int) -> int:
     import uvicorn
 
+    from app.service.startup import StartupRefused, check_exposure, check_keys, is_loopback, open_store
     from app.settings import Settings
 
     settings = Settings()
     host = host or settings.host  # 127.0.0.1 unless TRENDAUDIT_HOST says otherwise
     port = port or settings.port
     logging.basicConfig(level=logging.INFO, format="%(levelname)s: %(message)s")
+    try:
+        check_keys(settings)
+        check_exposure(settings, host)
+        open_store(settings).dispose()  # a wrong path or address is named here, before any worker starts
+    except StartupRefused as refusal:
+        print(f"trendaudit: {refusal}", file=sys.stderr)
+        return 2
     if not settings.api_key_list:
-        reach = ("only this machine can reach it" if _is_loopback(host)
+        reach = ("only this machine can reach it" if is_loopback(host)
                  else "ANYONE who can reach this address can create, list and delete audits")
         log.warning("No API keys set (TRENDAUDIT_API_KEYS): the service is open (bound to %s; %s)", host, reach)
     # Audits are many small least-squares problems; a second BLAS thread per call only spins (measured:
     # about 20% more throughput with one). Set before the workers start, so each imports numpy with it.
     for variable in BLAS_THREAD_VARIABLES:
         os.environ.setdefault(variable, "1")
-    uvicorn.run("app.main:app", host=host, port=port, workers=workers, log_level="info")
+    proxies = {"proxy_headers": True, "forwarded_allow_ips": settings.trusted_proxies} if settings.trusted_proxies else {}
+    uvicorn.run("app.main:app", host=host, port=port, workers=workers, log_level="info", **proxies)
     return 0
 
 
 BLAS_THREAD_VARIABLES = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")
-
-
-def _is_loopback(host: str) -> bool:
-    if host == "localhost":
-        return True
-    try:
-        return ipaddress.ip_address(host).is_loopback
-    except ValueError:
-        return False
 
 
 def _read(path: Path) -> bytes | None:

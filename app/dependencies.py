@@ -17,3 +17,9 @@ def get_runtime(request: Request) -> Runtime:
 
 def get_settings(request: Request) -> Settings:
     return request.app.state.settings
+
+
+def client_address(request: Request) -> str:
+    """Who sent the request, for per-client limits: the peer's address (the forwarded one behind a trusted proxy,
+    which the server has already put there)."""
+    return request.client.host if request.client else "unknown"

@@ -9,7 +9,10 @@
     │   └── UnsupportedMediaType    a body in a format the endpoint does not read (415)
     ├── AccessDenied                a missing or wrong API key or owner token (401/403)
     ├── NotFound                    no audit or sample with that name (404)
-    └── ServiceBusy                 the compute pool is full; try again later (503 + Retry-After)
+    └── RetryLater                  try the same request again after Retry-After seconds
+        ├── TooManyAttempts         too many wrong keys from one client (429)
+        └── ServiceBusy             the compute pool is full (503)
+            └── StoreUnavailable    the database cannot be reached, is read-only or full (503)
 
 Every input error says *where* (a row, a column, a field) and *what to fix*, so a newsroom
 script can point at the cell and a person can correct it. Each error's HTTP status is given in one
@@ -116,13 +119,32 @@ class NotFound(TrendAuditError):
     slug = "not-found"
 
 
-class ServiceBusy(TrendAuditError):
-    title = "The service is busy"
-    slug = "busy"
+class RetryLater(TrendAuditError):
+    """An error that says how many seconds to wait before the same request may succeed."""
 
     def __init__(self, message: str, *, retry_after: int = 5, **kwargs: Any) -> None:
         self.retry_after = retry_after
         super().__init__(message, **kwargs)
+
+
+class ServiceBusy(RetryLater):
+    title = "The service is busy"
+    slug = "busy"
+
+
+class StoreUnavailable(ServiceBusy):
+    title = "The store is unavailable"
+    slug = "store-unavailable"
+
+
+class TooManyAttempts(RetryLater):
+    title = "Too many attempts"
+    slug = "too-many-attempts"
+
+
+def retry_after(error: TrendAuditError) -> int | None:
+    """Seconds to wait before trying again, for the errors that say so."""
+    return error.retry_after if isinstance(error, RetryLater) else None
 
 
 def status_for(error: TrendAuditError) -> int:
@@ -139,4 +161,6 @@ def status_for(error: TrendAuditError) -> int:
         return 404
     if isinstance(error, ServiceBusy):
         return 503
+    if isinstance(error, TooManyAttempts):
+        return 429
     return 400

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import asyncio
 from contextlib import asynccontextmanager
 
 from fastapi import FastAPI
@@ -17,6 +18,7 @@ from app.security import install_security_headers
 from app.service.runtime import RuntimeHolder
 from app.settings import Settings
 from app.web import routers as desk_routers
+from app.web.same_origin import SameOriginForms
 from app.web.too_large import too_large_page
 
 # Bodies read by hand (JSON or multipart on one path) are described here so /docs can show them.
@@ -55,6 +57,9 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         lifespan=lifespan,
         docs_url=None,  # served by app.api.docs from local files, not a CDN
         redoc_url=None,
+        # Starlette's trailing-slash redirect writes its Location from the request's Host header, which a
+        # client chooses: "/x/" is simply not found, and no answer ever points at a host the request named.
+        redirect_slashes=False,
     )
     application.state.settings = settings
     application.state.runtime = runtime
@@ -63,13 +68,21 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     for router in desk_routers:  # the browser desk: HTML pages, their assets, chart downloads
         application.include_router(router)
     application.add_middleware(BodySizeLimit, max_bytes=settings.max_upload_bytes, html_refusal=too_large_page)
+    application.add_middleware(SameOriginForms, public_base_url=settings.public_base_url)  # before any body is read
     for router in (audits.router, correlations.router, claims.router, samples.router, trend.router, docs.router):
         application.include_router(router)
     application.openapi = lambda: _openapi_with(application, HAND_READ_BODIES)
 
     @application.get("/healthz", tags=["service"], summary="Liveness check")
-    def healthz() -> dict[str, str]:
+    async def healthz() -> dict[str, str]:
+        """On the event loop, touching nothing: it answers as long as the server can answer anything."""
         return {"status": "ok", "version": __version__}
+
+    @application.get("/readyz", tags=["service"], summary="Readiness check: the store answers and can be written",
+                     responses={503: {"description": "The store is unavailable; the cause in general words"}})
+    async def readyz() -> dict[str, str]:
+        await asyncio.to_thread(lambda: runtime.get().audits.check_writable())
+        return {"status": "ready", "version": __version__}
 
     return application
 

@@ -16,6 +16,10 @@ It sets, replacing whatever a route said:
   ``Cross-Origin-Opener-Policy: same-origin``.
 - ``X-Robots-Tag: noindex, nofollow`` on everything but the home page and static files: reports,
   charts, history and the API answers are for the people given the link, never for search engines.
+- ``Cache-Control: private, no-store`` on everything but the static files: a report, its JSON, its CSV and
+  its charts are readable by whoever holds the link, and a shared proxy that kept one would go on serving
+  it after the owner deleted it (and to people never given the link). Nothing is kept but the stylesheet,
+  the script and the icon, which are the same for everyone.
 
 The /docs page runs Swagger UI from this service's own copy (``app.api.docs``) and starts it with an
 inline script. That page (it shows no user input) gets its own policy: its inline script is allowed by
@@ -48,6 +52,7 @@ COMMON_HEADERS = {
     "Cross-Origin-Opener-Policy": "same-origin",
 }
 NOINDEX = "noindex, nofollow"
+NO_STORE = "private, no-store"
 INDEXABLE_PATHS = frozenset({"/"})
 INDEXABLE_PREFIXES = ("/static/",)
 
@@ -73,6 +78,8 @@ def secure_headers(headers: MutableHeaders, path: str, policy: str) -> None:
     for name, value in COMMON_HEADERS.items():
         headers[name] = value
     headers["Content-Security-Policy"] = policy
+    if not path.startswith(INDEXABLE_PREFIXES):
+        headers["Cache-Control"] = NO_STORE
     if not indexable(path):
         headers["X-Robots-Tag"] = NOINDEX
 

@@ -32,7 +32,21 @@ class Settings(BaseSettings):
     api_keys: str = Field(default="", description="Comma-separated keys; when set, creating, listing and deleting need one.")
     host: str = "127.0.0.1"
     port: int = 8000
-    public_base_url: str = ""
+    public_base_url: str = ""  # an https address here also marks the desk's key cookie Secure
+    # Serving on a non-loopback address without keys hands every record's id, title and verdict to anyone who
+    # can reach the server (GET /api/v1/audits, /history): refused unless this says the exposure is deliberate.
+    public_deployment: bool = False
+    # Addresses of reverse proxies whose X-Forwarded-Proto / X-Forwarded-For are believed (uvicorn's
+    # forwarded_allow_ips); a request through them over https gets Secure cookies, and is counted by its client.
+    trusted_proxies: str = ""
+    # Wrong keys a client may send before it is made to wait (a per-client moving window, in memory, per process).
+    key_guess_limit: str = "10/minute"
+    # Requests that need no key (the desk's preview always; every create, list and /trend when no keys are set)
+    # one client may send in a moving window, in memory, per process.
+    anonymous_rate_limit: str = "300/minute"
+    # Store faults: how long a connection, a statement or a wait for a pooled connection may take before the
+    # request is answered 503 (our requirement: a fault is reported within seconds, never a hang).
+    store_timeout_seconds: float = 5.0
 
     # Limits, enforced where input enters.
     max_upload_bytes: int = 5 * 1024 * 1024
@@ -44,6 +58,11 @@ class Settings(BaseSettings):
     # Points x simulations: 1,800 monthly points x 20,000 fits; 50,000 points x 2,000 is the same work.
     max_simulated_points: int = 100_000_000
     max_string_length: int = 2_000
+    # The covariate lag search's work (app.service.covariates.lag_search_work): 2e9 units is about a second or
+    # two on the project's machine (measured: 2,000 points, 8 covariates, 500 lags, AIC rule is 2.4e10 units
+    # and took 32.5 s); a service without keys serves everyone with the smaller budget.
+    max_lag_search_work: int = 2_000_000_000
+    anonymous_lag_search_work: int = 200_000_000
     request_timeout_seconds: float = 60.0
 
     # Statistics defaults.
@@ -73,6 +92,15 @@ class Settings(BaseSettings):
     @classmethod
     def _strip(cls, value: str) -> str:
         return value.strip()
+
+    @property
+    def lag_search_budget(self) -> int:
+        """Keyed requests get the full budget; when no keys are set, every request is anonymous."""
+        return self.max_lag_search_work if self.api_key_list else self.anonymous_lag_search_work
+
+    @property
+    def public_https(self) -> bool:
+        return self.public_base_url.lower().startswith("https://")
 
     @property
     def api_key_list(self) -> list[str]:

@@ -10,7 +10,7 @@ from fastapi.exceptions import RequestValidationError
 from fastapi.responses import JSONResponse
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
-from app.errors import ServiceBusy, TrendAuditError, status_for
+from app.errors import TrendAuditError, retry_after, status_for
 
 PROBLEM_TYPE_BASE = "/problems/"
 PROBLEM_MEDIA_TYPE = "application/problem+json"
@@ -63,10 +63,10 @@ def install_problem_handlers(app: FastAPI) -> None:
     async def _domain(request: Request, error: TrendAuditError) -> JSONResponse:
         status, body = problem_for_error(error, instance=request.url.path)
         headers = None
-        if isinstance(error, ServiceBusy):
+        if retry_after(error) is not None:
             # Closing the connection sends the retry through accept() again, where the kernel may hand it to
             # another server process: a kept-alive connection would bring it back to this full pool.
-            headers = {"Retry-After": str(error.retry_after), "Connection": "close"}
+            headers = {"Retry-After": str(retry_after(error)), "Connection": "close"}
         elif status == 401:
             headers = {"WWW-Authenticate": 'Bearer realm="trendaudit"'}  # RFC 9110 15.5.2: a 401 names its scheme
         return problem_response(status, body, headers)

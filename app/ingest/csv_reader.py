@@ -21,7 +21,7 @@ def read_csv_text(text: str | bytes, options: IngestOptions = IngestOptions(),
                   limits: ReadLimits | None = None) -> ParsedTable:
     check_options(options)
     table = read_table(decode_text(text), max_rows=options.max_points)
-    if limits is not None:
-        refuse_columns(len(table.names), limits, Location(row=table.header_row))
-        refuse_cells(len(table.names) * len(table.cells), limits, Location(row=table.header_row))
+    limits = limits or ReadLimits()  # every caller is bounded: a 100,000-column header is refused here
+    refuse_columns(len(table.names), limits, Location(row=table.header_row))
+    refuse_cells(len(table.names) * len(table.cells), limits, Location(row=table.header_row))
     return parsed_from_table(table, options, decimal_comma=options.decimal_comma or table.delimiter == ";")

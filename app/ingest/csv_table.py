@@ -123,10 +123,12 @@ def column_names(header: list[str], row: int) -> tuple[str, ...]:
                                 location=Location(row=row),
                                 fix="Add a header line naming the columns, e.g. time,value")
     names = [name or f"column {index + 1}" for index, name in enumerate(names)]
-    for index, name in enumerate(names):
-        if name in names[:index]:
+    seen: set[str] = set()
+    for name in names:  # a set, not a scan of the names before: a header may have thousands of columns
+        if name in seen:
             raise SeriesFormatError(f"two columns are named {shown(name)}", location=Location(row=row, column=name),
                                     fix="Give every column its own name")
+        seen.add(name)
     return tuple(names)
 
 

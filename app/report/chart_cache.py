@@ -35,7 +35,9 @@ from app.report.figures import as_inline, as_standalone, labelled_svg, png_bytes
 # Bump when a chart's drawing changes without a release, so kept charts are drawn again.
 CHART_REVISION = 3
 CHART_RENDERER = f"{__version__}+charts{CHART_REVISION}"
-CACHE_ENTRIES = 600  # entries are a record's chart set or one chart file; an SVG is 20-150 kB
+# Bounded by size, not count: one 50,000-point report's charts take about 18 MB, so 600 entries could reach a
+# gigabyte. 64 MB holds the charts of dozens of ordinary reports; the store keeps the rest (our requirement).
+CACHE_BYTES = 64 * 1024 * 1024
 FORMATS = ("inline", "svg", "png")
 MEDIA_TYPES = {"svg": "image/svg+xml", "png": "image/png"}
 
@@ -61,29 +63,45 @@ class ChartView:
     png_url: str
 
 
+def _size(value: Any) -> int:
+    """Bytes (or characters) an entry holds: a chart's text or bytes, or a record's charts by name."""
+    if isinstance(value, Mapping):
+        return sum(len(name) + len(chart) for name, chart in value.items())
+    return len(value)
+
+
 class _LRU:
-    def __init__(self, size: int) -> None:
-        self.size = size
-        self._items: OrderedDict[tuple, Any] = OrderedDict()
+    """Least recently used first out, holding at most ``max_bytes`` of charts; one larger entry is not kept."""
+
+    def __init__(self, max_bytes: int) -> None:
+        self.max_bytes = max_bytes
+        self.held = 0
+        self._items: OrderedDict[tuple, tuple[Any, int]] = OrderedDict()
         self._lock = threading.Lock()
 
     def get(self, key: tuple) -> Any:
         with self._lock:
             if key in self._items:
                 self._items.move_to_end(key)
-                return self._items[key]
+                return self._items[key][0]
         return None
 
     def put(self, key: tuple, value: Any) -> None:
+        size = _size(value)
         with self._lock:
-            self._items[key] = value
-            self._items.move_to_end(key)
-            while len(self._items) > self.size:
-                self._items.popitem(last=False)
+            if key in self._items:
+                self.held -= self._items.pop(key)[1]
+            if size > self.max_bytes:
+                return
+            self._items[key] = (value, size)
+            self.held += size
+            while self.held > self.max_bytes:
+                self.held -= self._items.popitem(last=False)[1][1]
 
     def clear(self) -> None:
         with self._lock:
             self._items.clear()
+            self.held = 0
 
 
 class _OneAtATime:
@@ -107,7 +125,7 @@ class _OneAtATime:
             return holder
 
 
-_cache = _LRU(CACHE_ENTRIES)
+_cache = _LRU(CACHE_BYTES)
 _drawing = _OneAtATime()
 
 

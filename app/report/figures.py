@@ -58,6 +58,8 @@ _METADATA = re.compile(r"<metadata>.*?</metadata>\s*", re.S)
 _ID = re.compile(r'\bid="([^"]+)"')
 _SVG_OPEN = re.compile(r"<svg\b[^>]*>")
 _REFERENCE = re.compile(r"#([-\w.:]+)")
+# An element's opening or closing tag; text and comments cannot match: their "<" is escaped or followed by "!".
+_TAG = re.compile(r"<[A-Za-z/][^<>]*>")
 
 
 # Fixed margins, in inches, instead of matplotlib's constrained layout: that solver measures every
@@ -156,14 +158,21 @@ def _raw_svg(fig: Figure) -> str:
 
 
 def _prefix_ids(svg: str, prefix: str) -> str:
-    """Gives every id in the SVG a per-chart prefix, so several charts inlined in one page never clash."""
-    ids = set(_ID.findall(svg))
+    """Gives every id in the SVG a per-chart prefix, so several charts inlined in one page never clash.
+
+    Only inside element tags: text and comments (where a label such as "Ref #patch_1" or 'id="a"' is drawn
+    as the person wrote it) are never touched, so a chart never misquotes its input."""
+    ids = {found for tag in _TAG.findall(svg) for found in _ID.findall(tag)}
     if not ids:
         return svg
-    svg = _ID.sub(lambda m: f'id="{prefix}-{m.group(1)}"', svg)
-    # Every '#name' is looked up among the ids, rather than matched against one pattern listing them all:
-    # that alternation took a third of the post-processing. References end where an id's characters end.
-    return _REFERENCE.sub(lambda m: f"#{prefix}-{m.group(1)}" if m.group(1) in ids else m.group(0), svg)
+
+    def in_tag(match: re.Match) -> str:
+        tag = _ID.sub(lambda m: f'id="{prefix}-{m.group(1)}"', match.group(0))
+        # Every '#name' is looked up among the ids, rather than matched against one pattern listing them all:
+        # that alternation took a third of the post-processing. References end where an id's characters end.
+        return _REFERENCE.sub(lambda m: f"#{prefix}-{m.group(1)}" if m.group(1) in ids else m.group(0), tag)
+
+    return _TAG.sub(in_tag, svg)
 
 
 def _label(svg: str, prefix: str, title: str, description: str) -> str:

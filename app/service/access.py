@@ -13,3 +13,13 @@ def key_matches(given: str, keys: list[str]) -> bool:
     for key in keys:
         found |= hmac.compare_digest(given_digest, hashlib.sha256(key.encode("utf-8")).digest())
     return found
+
+
+def desk_token(key: str) -> str:
+    """What the desk's cookie holds for a key: a digest, so the key itself is never stored in a browser (a
+    cookie copied off a disk opens the desk of this service, but is not the API key a script would send)."""
+    return hashlib.sha256(f"trendaudit-desk:{key}".encode("utf-8")).hexdigest()
+
+
+def desk_tokens(keys: list[str]) -> list[str]:
+    return [desk_token(key) for key in keys]

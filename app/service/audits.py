@@ -95,7 +95,8 @@ def prepare_job(*, title: str, series: Series, claim: ClaimInput, options: Audit
         seasonal_field)
     check_window_in_series(series, resolved.start, resolved.end)
     check_work(series.n, options.simulations, settings.max_simulated_points)
-    check_lag_cells(series, covariates, covariate_fields or [f"covariates[{i}].max_lag" for i in range(len(covariates))])
+    check_lag_cells(series, covariates, covariate_fields or [f"covariates[{i}].max_lag" for i in range(len(covariates))],
+                    work_limit=settings.lag_search_budget)
     window = window_echo(claim, resolved, series)
     title = title.strip() or default_title(series, resolved, window)
     check_string_lengths({"title": title}, settings.max_string_length)

@@ -16,7 +16,7 @@ from app.errors import ClaimError, LimitExceeded, Location
 from app.ingest import IngestOptions, ParsedTable, Series, series_from_arrays
 from app.service.columns import extra_column, unusable_column
 from app.service.payloads import series_payload
-from app.stats.adjust import MAX_COVARIATES, Covariate, default_max_lag
+from app.stats.adjust import AR_ITERATIONS, MAX_COVARIATES, Covariate, default_max_lag
 
 # Lagged copies one covariate may need (candidate lags x response points). The lag search holds them all
 # at once, so this bounds its memory: 25 monthly lags over 200 years is 60,000; a million leaves daily data room.
@@ -50,17 +50,38 @@ def check_covariate_count(count: int, field: str) -> None:
                             location=Location(field=field), fix="Keep the factors that matter most")
 
 
-def check_lag_cells(response: Series, covariates: Sequence[CovariateSeries], fields: Sequence[str]) -> None:
-    """Refuses lag searches too big to hold in memory, before any computing starts."""
-    for cov, field in zip(covariates, fields):
-        lags = cov.max_lag if cov.max_lag is not None else min(default_max_lag(response.points_per_year),
-                                                               response.n // 4)
-        cells = (lags + 1) * response.n
+def _lag_counts(response: Series, covariates: Sequence[CovariateSeries]) -> list[int]:
+    """Candidate lags of each covariate: its own maximum, else the default (two years, at most a quarter of the series)."""
+    return [(cov.max_lag if cov.max_lag is not None else min(default_max_lag(response.points_per_year),
+                                                             response.n // 4)) + 1 for cov in covariates]
+
+
+def lag_search_work(response: Series, covariates: Sequence[CovariateSeries], lag_rule: str = "ls") -> int:
+    """The lag search's work in one sweep: every candidate lag of every covariate is a least-squares fit of the
+    response's points on all the regressors (n p^2 each), and the AIC rule repeats each fit for its AR(1)
+    iterations. Sweeps until no lag moves multiply this by a few."""
+    regressors = 2 + len(covariates)
+    per_fit = response.n * regressors ** 2 * (AR_ITERATIONS if lag_rule == "aic" else 1)
+    return sum(_lag_counts(response, covariates)) * per_fit
+
+
+def check_lag_cells(response: Series, covariates: Sequence[CovariateSeries], fields: Sequence[str],
+                    work_limit: int | None = None, lag_rule: str = "ls") -> None:
+    """Refuses lag searches too big to hold in memory, or past the work budget, before any computing starts."""
+    for cov, lags, field in zip(covariates, _lag_counts(response, covariates), fields):
+        cells = lags * response.n
         if cells > MAX_LAG_CELLS:
             raise LimitExceeded(
-                f"searching {lags + 1:,} lags of '{cov.name}' over {response.n:,} points needs {cells:,} lagged "
+                f"searching {lags:,} lags of '{cov.name}' over {response.n:,} points needs {cells:,} lagged "
                 f"values; the limit is {MAX_LAG_CELLS:,}", location=Location(field=field),
                 fix="Give a smaller maximum lag (in steps of the series), or use monthly or annual means")
+    work = lag_search_work(response, covariates, lag_rule)
+    if covariates and work_limit is not None and work > work_limit:
+        raise LimitExceeded(
+            f"searching the lags of {len(covariates)} covariates over {response.n:,} points is more work than this "
+            f"service does in one request ({work:,} units; the limit is {work_limit:,})",
+            location=Location(field=fields[0] if fields else "covariates"),
+            fix="Give smaller maximum lags, fewer covariates, the 'ls' lag rule, or monthly or annual means")
 
 
 def covariates_from_json(items: Sequence[dict[str, Any]], options: IngestOptions) -> tuple[CovariateSeries, ...]:
@@ -75,15 +96,27 @@ def covariates_from_json(items: Sequence[dict[str, Any]], options: IngestOptions
     return tuple(read)
 
 
-def column_names(values: Sequence[str | None]) -> tuple[str, ...]:
-    """Column names from comma-separated text, repeated fields, or both; blanks dropped, order and case kept."""
-    names: list[str] = []
+# Names one form may list (covariates, a driver): far more than any table this service reads has columns.
+MAX_COLUMN_NAMES = 500
+
+
+def column_names(values: Sequence[str | None], field: str = "covariate_columns",
+                 max_length: int = 2_000) -> tuple[str, ...]:
+    """Column names from comma-separated text, repeated fields, or both; blanks dropped, order and case kept.
+
+    The count and each name's length are checked before anything else is done with them, and repeats are
+    dropped through a dict (linear time): a form may carry tens of thousands of names."""
+    parts: list[str] = []
     for value in values:
-        for part in (value or "").split(","):
-            name = part.strip()
-            if name and name not in names:
-                names.append(name)
-    return tuple(names)
+        if (value or "").count(",") + 1 + len(parts) > MAX_COLUMN_NAMES:
+            raise LimitExceeded(f"more than {MAX_COLUMN_NAMES} column names were given",
+                                location=Location(field=field), fix="Name only the columns you need")
+        parts.extend(part.strip() for part in (value or "").split(","))
+    for name in parts:
+        if len(name) > max_length:
+            raise LimitExceeded(f"a column name is {len(name):,} characters long; the limit is {max_length:,}",
+                                location=Location(field=field), fix="Name the column as its header writes it")
+    return tuple(dict.fromkeys(name for name in parts if name))
 
 
 def covariates_from_table(table: ParsedTable, columns: Sequence[str], max_lag: int | None,

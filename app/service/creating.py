@@ -27,6 +27,8 @@ async def create_record(runtime: Runtime, kind: RecordKind, job: AuditJob | Corr
     Its charts are drawn in the background once the pool is idle, or with ``draw_now`` before this returns
     (the desk, whose person waits for the created page anyway)."""
     compute, store = _steps(kind)
+    # A store that could not keep the result is found out before the work, not after it (503 at once).
+    await asyncio.to_thread(runtime.audits.check_writable)
     document = await runtime.pool.run(compute, job)
     record, owner_token = await asyncio.to_thread(store, runtime.audits, job, document)
     if draw_now:

@@ -17,9 +17,11 @@ from sqlalchemy import Engine
 from app.report.chart_cache import ChartShelf, prepared_charts
 from app.report.chart_sets import ChartSet
 from app.service.chart_drawing import ChartDrawer
+from app.service.guessing import ClientAllowance, KeyGuessing
 from app.service.pool import ComputePool
+from app.service.startup import check_keys, open_store
 from app.settings import Settings
-from app.store import AuditRepository, ChartRepository, make_engine, migrate
+from app.store import AuditRepository, ChartRepository
 
 log = logging.getLogger("trendaudit")
 
@@ -32,6 +34,8 @@ class Runtime:
     charts: ChartRepository
     pool: ComputePool
     drawer: ChartDrawer
+    guessing: KeyGuessing
+    anonymous: ClientAllowance
 
     def draw_charts_ahead(self, record_id: str, charts: ChartSet) -> None:
         """After a record is stored: its charts are drawn in the background, so its report opens at once."""
@@ -53,8 +57,8 @@ class Runtime:
 
 
 def start_runtime(settings: Settings) -> Runtime:
-    engine = make_engine(settings.database_url)
-    migrate(engine)
+    check_keys(settings)
+    engine = open_store(settings)
     if not settings.api_key_list:
         log.warning("No API keys set (TRENDAUDIT_API_KEYS): creating, listing and deleting audits is open to "
                     "anyone who can reach this server")
@@ -62,7 +66,9 @@ def start_runtime(settings: Settings) -> Runtime:
     pool = ComputePool(settings.compute_workers, settings.compute_queue, settings.request_timeout_seconds)
     drawer = ChartDrawer(charts, lambda record_id: audits.get(record_id).result_document, settings.chart_queue,
                          enabled=settings.draw_charts_ahead, wait_idle=pool.wait_idle)
-    return Runtime(settings=settings, engine=engine, audits=audits, charts=charts, pool=pool, drawer=drawer)
+    return Runtime(settings=settings, engine=engine, audits=audits, charts=charts, pool=pool, drawer=drawer,
+                   guessing=KeyGuessing(settings.key_guess_limit),
+                   anonymous=ClientAllowance(settings.anonymous_rate_limit, "requests without a key"))
 
 
 class RuntimeHolder:

@@ -3,19 +3,18 @@ trend once known factors are taken out (the fit alone, no audit). Written by the
 
 from __future__ import annotations
 
-from dataclasses import replace
+from dataclasses import dataclass, replace
 from typing import Any
 
-
+from app.audit.claim import Claim
 from app.audit.serialize import trend_document
 from app.errors import ClaimError, Location
 from app.ingest import IngestOptions, series_from_json
 from app.ingest.series import Series
 from app.ingest.validate import check_enough_values, check_window_in_series
 from app.ingest.window_edges import in_window
-from app.audit.claim import Claim
 from app.service.claims import ClaimInput, Edge, edge_instant, window_echo, window_series
-from app.service.covariates import check_lag_cells, covariates_from_json
+from app.service.covariates import CovariateSeries, check_lag_cells, covariates_from_json
 from app.settings import Settings
 from app.stats.adjust import fit_covariates
 from app.stats.noise import NOISE_KINDS, NoiseModel
@@ -54,19 +53,41 @@ def _fitted_noise(window: Series, method: str) -> NoiseModel:
     return select_noise_model(residuals).model_of(method if method in NOISE_KINDS else "ar1")
 
 
-def compute_trend(body: Any, settings: Settings) -> dict[str, Any]:
-    """``body``: the JSON body, validated against the API's ``TrendRequest`` schema. CPU-bound: runs in the pool."""
+@dataclass(frozen=True)
+class TrendJob:
+    """A trend request read and checked: the window (and its echo), its covariates and what to fit."""
+
+    window: Series
+    echo: dict[str, Any] | None
+    covariates: tuple[CovariateSeries, ...]
+    noise: str
+    confidence: float
+    lag_rule: str
+
+
+def prepare_trend(body: Any, settings: Settings) -> TrendJob:
+    """Reads and checks the request (``body``: validated against the API's ``TrendRequest`` schema), the lag
+    search's work budget included, before the job takes a compute slot: a refused request never holds one."""
     reading = IngestOptions(max_points=settings.max_points)
     series = series_from_json(body.series.model_dump(exclude_none=True), reading, field="series")
     covariates = covariates_from_json([c.model_dump() for c in body.covariates], reading)
     window, echo = trend_window(series, body.start, body.end)
-    fit, noise = None, None
     if covariates:
-        check_lag_cells(window, covariates, [f"covariates[{i}].max_lag" for i in range(len(covariates))])
-        noise = body.noise if body.noise in NOISE_KINDS else ADJUSTMENT_FALLBACK_NOISE
-        fit = fit_covariates(window.time, window.value, [c.covariate for c in covariates], window.points_per_year,
-                             noise_kind=noise, confidence=body.confidence, lag_rule=body.lag_rule)
-    summary = summarise_trend(window.time, window.value, method=body.noise, confidence=body.confidence,
-                              noise=_fitted_noise(window, body.noise), points_per_year=window.points_per_year)
-    return {**trend_document(summary, start=window.start, end=window.end, confidence=body.confidence,
-                             adjustment=fit, adjustment_noise=noise), "window": echo}
+        check_lag_cells(window, covariates, [f"covariates[{i}].max_lag" for i in range(len(covariates))],
+                        work_limit=settings.lag_search_budget, lag_rule=body.lag_rule)
+    return TrendJob(window=window, echo=echo, covariates=covariates, noise=body.noise, confidence=body.confidence,
+                    lag_rule=body.lag_rule)
+
+
+def compute_trend(job: TrendJob) -> dict[str, Any]:
+    """CPU-bound: runs in the pool."""
+    window, fit, noise = job.window, None, None
+    if job.covariates:
+        noise = job.noise if job.noise in NOISE_KINDS else ADJUSTMENT_FALLBACK_NOISE
+        fit = fit_covariates(window.time, window.value, [c.covariate for c in job.covariates],
+                             window.points_per_year, noise_kind=noise, confidence=job.confidence,
+                             lag_rule=job.lag_rule)
+    summary = summarise_trend(window.time, window.value, method=job.noise, confidence=job.confidence,
+                              noise=_fitted_noise(window, job.noise), points_per_year=window.points_per_year)
+    return {**trend_document(summary, start=window.start, end=window.end, confidence=job.confidence,
+                             adjustment=fit, adjustment_noise=noise), "window": job.echo}

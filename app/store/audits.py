@@ -11,6 +11,8 @@ shown once at creation; only its SHA-256 is stored, and checks compare digests i
 from __future__ import annotations
 
 import base64
+import os
+import shutil
 import hashlib
 import hmac
 import secrets
@@ -22,13 +24,17 @@ import sqlalchemy as sa
 from sqlalchemy import Engine
 
 from app.errors import AccessDenied, InputError, Location, NotFound
-from app.store.engine import write_options
+from app.store.engine import is_sqlite, write_options
+from app.store.faults import store_faults, unavailable
 
 ID_BYTES = 18  # 144 bits, 24 URL-safe characters
 OWNER_TOKEN_BYTES = 32
 MAX_PAGE_SIZE = 100
 # Not a backslash, whose meaning in a string literal differs between databases and their settings.
 LIKE_ESCAPE = "!"
+MAX_SEQ = 2**63 - 1  # BIGINT's largest value
+# Room a new record needs: a large audit's documents and charts are a few megabytes (our requirement).
+RECORD_ROOM_BYTES = 8 * 1024 * 1024
 AUDIT = "audit"
 CORRELATION = "correlation"
 KIND_NOUNS = {AUDIT: "audit", CORRELATION: "correlation audit"}
@@ -119,15 +125,39 @@ def decode_cursor(cursor: str) -> int:
         text = base64.urlsafe_b64decode(cursor + "=" * (-len(cursor) % 4)).decode()
     except (ValueError, UnicodeDecodeError):
         raise bad from None
-    if not (text.startswith("s") and text[1:].isdigit()):
+    # Sequence numbers are 64-bit signed in both stores; anything longer would overflow the query's parameter.
+    if not (text.startswith("s") and text[1:].isascii() and text[1:].isdigit() and len(text) <= 20):
         raise bad
-    return int(text[1:])
+    seq = int(text[1:])
+    if seq > MAX_SEQ:
+        raise bad
+    return seq
 
 
 class AuditRepository:
     def __init__(self, engine: Engine) -> None:
         self.engine = engine
 
+    @store_faults
+    def check_writable(self) -> None:
+        """Refuses (503) before an audit is computed when the store could not keep it: unreachable, read-only,
+        or (SQLite) without room for a record. A write transaction is begun and rolled back."""
+        with self.engine.connect().execution_options(**write_options(self.engine)) as connection:
+            with connection.begin() as transaction:
+                if is_sqlite(self.engine):
+                    pragma = connection.exec_driver_sql
+                    version = pragma("PRAGMA user_version").scalar_one()
+                    pragma(f"PRAGMA user_version = {int(version)}")  # a write: fails on a read-only database
+                    pages = pragma("PRAGMA page_count").scalar_one() - pragma("PRAGMA freelist_count").scalar_one()
+                    room = (pragma("PRAGMA max_page_count").scalar_one() - pages) * pragma("PRAGMA page_size").scalar_one()
+                    path = connection.engine.url.database
+                    if room < RECORD_ROOM_BYTES or _free_bytes(path) < RECORD_ROOM_BYTES:
+                        raise unavailable("the database's disk is full")
+                elif connection.exec_driver_sql("SHOW transaction_read_only").scalar_one() == "on":
+                    raise unavailable("the database is read-only")
+                transaction.rollback()
+
+    @store_faults
     def create(self, audit: NewAudit) -> tuple[AuditRecord, str]:
         """Stores the audit in one committed transaction; returns the record and the owner token (once)."""
         owner_token = secrets.token_urlsafe(OWNER_TOKEN_BYTES)
@@ -149,6 +179,7 @@ class AuditRepository:
                              input_document=audit.input_document, result_document=audit.result_document)
         return record, owner_token
 
+    @store_faults
     def get(self, audit_id: str, kind: str | None = None) -> AuditRecord:
         """The stored record; with ``kind``, a record of another kind is not found."""
         t = audits_table
@@ -161,6 +192,7 @@ class AuditRepository:
             raise _not_found(audit_id, kind)
         return AuditRecord(**{**row, "created_at": _utc(row["created_at"])})
 
+    @store_faults
     def list(self, *, limit: int = 20, cursor: str | None = None, kind: str | None = None,
              search: str | None = None) -> Page:
         """Newest first. The cursor is opaque to callers: it marks where the previous page stopped. With
@@ -184,6 +216,7 @@ class AuditRepository:
         next_cursor = encode_cursor(rows[limit - 1]["seq"]) if len(rows) > limit else None
         return Page(items=items, next_cursor=next_cursor)
 
+    @store_faults
     def delete(self, audit_id: str, owner_token: str | None, kind: str | None = None) -> None:
         """Deletes the record if the token is its owner's; the check and the delete share one transaction."""
         noun = KIND_NOUNS.get(kind, "audit")
@@ -209,6 +242,13 @@ class AuditRepository:
 def _like_escaped(text: str) -> str:
     """The text matched literally by LIKE: its wildcards and the escape character escaped."""
     return text.replace(LIKE_ESCAPE, LIKE_ESCAPE * 2).replace("%", LIKE_ESCAPE + "%").replace("_", LIKE_ESCAPE + "_")
+
+
+def _free_bytes(path: str | None) -> int:
+    try:
+        return shutil.disk_usage(os.path.dirname(os.path.abspath(path or "."))).free
+    except OSError:
+        return 0
 
 
 def _identified(audit_id: str, kind: str | None):

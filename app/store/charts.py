@@ -19,6 +19,7 @@ from sqlalchemy import Engine
 from sqlalchemy.exc import IntegrityError
 
 from app.store.engine import write_options
+from app.store.faults import store_faults
 
 log = logging.getLogger("trendaudit.store")
 
@@ -32,6 +33,7 @@ class ChartRepository:
     def __init__(self, engine: Engine) -> None:
         self.engine = engine
 
+    @store_faults
     def load(self, record_id: str, renderer: str) -> dict[str, str]:
         """The record's charts drawn by ``renderer``, by name (empty if none are kept)."""
         t = charts_table
@@ -39,6 +41,7 @@ class ChartRepository:
         with self.engine.connect() as connection:
             return {row.name: row.svg for row in connection.execute(query)}
 
+    @store_faults
     def keep(self, record_id: str, renderer: str, charts: Mapping[str, str]) -> None:
         """Replaces the record's kept charts with ``charts`` in one transaction."""
         t = charts_table
@@ -53,6 +56,7 @@ class ChartRepository:
             # The record is gone, or a concurrent writer kept its charts a moment earlier: nothing is lost.
             log.debug("charts for %s not kept: the record was deleted or its charts were kept meanwhile", record_id)
 
+    @store_faults
     def count(self, record_id: str) -> int:
         t = charts_table
         with self.engine.connect() as connection:

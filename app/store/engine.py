@@ -16,7 +16,10 @@ from typing import Any
 from sqlalchemy import Engine, create_engine, event
 from sqlalchemy.engine import make_url
 
+from app.store.faults import deadline_connection
+
 SQLITE_BUSY_TIMEOUT_SECONDS = 30.0
+DEFAULT_STORE_TIMEOUT_SECONDS = 5.0
 BEGIN_MODE_OPTION = "sqlite_begin"  # execution option: "DEFERRED" (default) or "IMMEDIATE"
 
 
@@ -37,8 +40,13 @@ def sqlite_path(url: str) -> Path | None:
     return Path(parsed.database)
 
 
-def make_engine(database_url: str) -> Engine:
-    """Creates the engine (and, for SQLite, the directory of its file). Call at start-up, never at import."""
+def make_engine(database_url: str, timeout_seconds: float = DEFAULT_STORE_TIMEOUT_SECONDS) -> Engine:
+    """Creates the engine (and, for SQLite, the directory of its file). Call at start-up, never at import.
+
+    PostgreSQL gets a connect timeout, a statement timeout, a short wait for a pooled connection and a
+    client-side deadline on every answer (``app.store.faults``), all ``timeout_seconds``: a store that is
+    down or silent is reported within seconds, and a new connection is tried on the next request, so the
+    service recovers by itself when the store comes back."""
     path = sqlite_path(database_url)
     if path is not None:
         path.parent.mkdir(parents=True, exist_ok=True)
@@ -52,7 +60,21 @@ def make_engine(database_url: str) -> Engine:
     if url.drivername == "postgresql":
         # A bare postgresql:// would ask for psycopg2; the project ships psycopg 3.
         url = url.set(drivername="postgresql+psycopg")
-    return create_engine(url, json_serializer=_finite_json, pool_pre_ping=True)
+    seconds = max(1, int(round(timeout_seconds)))
+    engine = create_engine(url, json_serializer=_finite_json, pool_pre_ping=True, pool_timeout=timeout_seconds,
+                           connect_args={"connect_timeout": seconds,
+                                         # added to the URL's own options (a search_path, say), not in their place
+                                         "options": f"{url.query.get('options', '')} "
+                                                    f"-c statement_timeout={seconds * 1000}".strip(),
+                                         "keepalives": 1, "keepalives_idle": seconds, "keepalives_interval": 1,
+                                         "keepalives_count": 3, "tcp_user_timeout": seconds * 1000})
+    connection_class = deadline_connection(timeout_seconds + 1.0)  # past the server's own statement timeout
+
+    @event.listens_for(engine, "do_connect")
+    def _connect(_dialect, _record, cargs, cparams):
+        return connection_class.connect(*cargs, **cparams)
+
+    return engine
 
 
 def _configure_sqlite(engine: Engine) -> None:

@@ -46,8 +46,8 @@ def chart_response(request: Request, kind: RecordKind, record_id: str, filename:
     record = read_record(runtime.audits, kind, record_id)
     body = chart_file(record.id, record.result_document, name, fmt, kind.charts, runtime.chart_shelf(record.id))
     return Response(body, media_type=MEDIA_TYPES[fmt], headers={
-        "Content-Disposition": f'inline; filename="trendaudit-{record.id}-{name}.{fmt}"',
-        "Cache-Control": "public, max-age=86400"})  # security headers: app.security, on every answer
+        "Content-Disposition": f'inline; filename="trendaudit-{record.id}-{name}.{fmt}"'})
+    # Cache-Control (private, no-store) and the security headers: app.security, on every answer
 
 
 def card_response(request: Request, kind: RecordKind, record_id: str, fmt: str, shape: str) -> Response:
@@ -58,5 +58,4 @@ def card_response(request: Request, kind: RecordKind, record_id: str, fmt: str, 
     body = card_file(kind.charts.kind, record.id, record.title, record.result_document, permalink, shape, fmt)
     suffix = "" if shape == "wide" else f"-{shape}"
     return Response(body, media_type=CARD_FORMATS[fmt], headers={
-        "Content-Disposition": f'inline; filename="trendaudit-{record.id}-card{suffix}.{fmt}"',
-        "Cache-Control": "public, max-age=86400"})
+        "Content-Disposition": f'inline; filename="trendaudit-{record.id}-card{suffix}.{fmt}"'})

@@ -14,7 +14,7 @@ from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import HTMLResponse, RedirectResponse, Response
 
 from app.dependencies import get_runtime
-from app.errors import AccessDenied, TrendAuditError
+from app.errors import AccessDenied, TooManyAttempts, TrendAuditError
 from app.report.render import OwnerNotice
 from app.service.records import RecordKind, delete_record, read_record
 from app.settings import Settings
@@ -68,7 +68,7 @@ async def delete_page(request: Request, collection: RecordKind, record_id: str) 
     back = collection.report(record_id)
     try:
         require_access(request, settings, f"Deleting {collection.noun_with_article}")
-    except AccessDenied as error:
+    except (AccessDenied, TooManyAttempts) as error:
         return _not_deleted(collection, error, back=back, key_link=True)
     try:
         await run_in_threadpool(delete_record, get_runtime(request).audits, collection, record_id, token or None)

@@ -16,7 +16,7 @@ from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import HTMLResponse, RedirectResponse
 
 from app.dependencies import get_runtime
-from app.errors import AccessDenied, InputError, TrendAuditError
+from app.errors import AccessDenied, InputError, TooManyAttempts, TrendAuditError
 from app.service.audits import audit_options, job_from_file, rename_fields
 from app.service.claims import SEARCH_MAX_CHARS, ClaimInput, claim_record
 from app.service.forms import FORM_FIELD_NAMES
@@ -25,7 +25,7 @@ from app.service.limits import check_string_lengths
 from app.service.records import AUDITS, RecordKind, list_history
 from app.settings import Settings
 from app.web.access import (check_key, forget_key, has_access, keys_required, remember_key, require_access,
-                            safe_next)
+                            safe_next, spend_anonymous)
 from app.web.claim_box import ClaimReadingView, read_into_form
 from app.web.forms import LINK, TREND, DeskForm, form_choices
 from app.web.owners import created_redirect
@@ -56,15 +56,17 @@ def desk(request: Request, *, form: DeskForm, preview: PreviewView | None = None
 
 async def preview_page(request: Request, form: DeskForm, problem: ProblemView | None = None) -> HTMLResponse:
     settings: Settings = request.app.state.settings
+    # The page carries the table back in its form (up to the upload limit): drawn on a worker thread, not the loop.
     try:
         form = sample_filled(form, settings)
         table, sample = await run_in_threadpool(read_table, form, settings)
     except TrendAuditError as error:
-        return desk(request, form=form, problem=problem or problem_view(error))
+        return await run_in_threadpool(lambda: desk(request, form=form, problem=problem or problem_view(error)))
     form = chosen_columns(form, table)
     form, claim_reading = read_into_form(form, table.series, settings)
     view = await run_in_threadpool(preview_view, table)
-    return desk(request, form=form, preview=view, problem=problem, sample=sample, claim_reading=claim_reading)
+    return await run_in_threadpool(lambda: desk(request, form=form, preview=view, problem=problem, sample=sample,
+                                                claim_reading=claim_reading))
 
 
 @router.get("/", response_class=HTMLResponse)
@@ -77,6 +79,7 @@ async def home(request: Request, sample: str | None = None, check: str | None = 
 @router.post("/preview", response_class=HTMLResponse)
 async def preview(request: Request) -> HTMLResponse:
     try:
+        spend_anonymous(request)  # no key needed to preview, so each client has its own small allowance
         form, _ = await posted_form(request)
     except TrendAuditError as error:
         return desk(request, form=DeskForm(), problem=problem_view(error))
@@ -125,12 +128,12 @@ async def run_desk_form(request: Request, *, check: str, make_job: Callable,
     the browser to the page that shows the owner token once; a problem comes back on the preview."""
     settings: Settings = request.app.state.settings
     try:
+        require_access(request, settings, "Creating an audit")  # before the form is read: no work for strangers
         form, filename = await posted_form(request)
     except TrendAuditError as error:
         return desk(request, form=DeskForm(check=check), problem=problem_view(error))
     form = dataclasses.replace(form, check=check)
     try:
-        require_access(request, settings, "Creating an audit")
         job = await run_in_threadpool(make_job, form, filename, settings)
         # The report's charts are drawn now, while the person waits anyway, so the report opens at once.
         record, owner_token, _document = await create_record(get_runtime(request), collection, job, draw_now=True)
@@ -158,7 +161,7 @@ async def history(request: Request, cursor: str | None = None, q: str | None = N
     settings: Settings = request.app.state.settings
     try:
         require_access(request, settings, "Listing audits")
-    except AccessDenied as error:
+    except (AccessDenied, TooManyAttempts) as error:
         return _key_page(request, error, "/history")
     try:
         page = await run_in_threadpool(list_history, get_runtime(request).audits, limit=HISTORY_PAGE_SIZE,
@@ -191,8 +194,8 @@ async def access_submit(request: Request) -> HTMLResponse | RedirectResponse:
     if not keys_required(settings):
         return RedirectResponse(next_path, status_code=303)
     try:
-        check_key(key, settings)
-    except AccessDenied as error:
+        check_key(request, key, settings)
+    except (AccessDenied, TooManyAttempts) as error:
         return _key_page(request, error, next_path)
     response = RedirectResponse(next_path, status_code=303)
     remember_key(response, key, is_secure(request))

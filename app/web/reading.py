@@ -6,6 +6,7 @@ read the table again, exactly as previewed, when the form is sent.
 
 from __future__ import annotations
 
+import asyncio
 import base64
 import binascii
 import dataclasses
@@ -156,11 +157,24 @@ def chosen_columns(form: DeskForm, table: ParsedTable) -> DeskForm:
 
 
 async def posted_form(request: Request) -> tuple[DeskForm, str | None]:
-    """The posted form, with an uploaded file's text in place of any pasted table; and the file's name."""
+    """The posted form, with an uploaded file's text in place of any pasted table; and the file's name.
+
+    The body (already bounded by the body-size limit) is received on the event loop, but parsed on a worker
+    thread: splitting and decoding a form of several megabytes takes long enough to hold up every other
+    request, /healthz included, were it done on the loop."""
     settings: Settings = request.app.state.settings
-    async with request.form(max_files=1, max_fields=80, max_part_size=settings.max_upload_bytes) as raw:
-        form, data, filename = await read_form(raw, settings.max_upload_bytes)
+    body = await request.body()
+    form, data, filename = await asyncio.to_thread(asyncio.run, _parse_form(request.scope, body, settings))
     return with_upload(form, data), filename
+
+
+async def _parse_form(scope, body: bytes, settings: Settings) -> tuple[DeskForm, bytes | None, str | None]:
+    async def receive() -> dict[str, Any]:
+        return {"type": "http.request", "body": body, "more_body": False}
+
+    async with Request(scope, receive).form(max_files=1, max_fields=80,
+                                            max_part_size=settings.max_upload_bytes) as raw:
+        return await read_form(raw, settings.max_upload_bytes)
 
 
 def required(text: str, field: str, fix: str) -> str:

@@ -14,7 +14,9 @@ NO_STORE = {"Cache-Control": "no-store"}  # pages that show a secret once must n
 
 
 def is_secure(request: Request) -> bool:
-    return request.url.scheme == "https"
+    """Whether cookies must be Secure: the service's public address is https, or this request came over https
+    (directly, or through a trusted proxy whose forwarded scheme the server applied)."""
+    return request.app.state.settings.public_https or request.url.scheme == "https"
 
 
 def html(template: str, *, status: int = 200, noindex: bool = False, headers: dict[str, str] | None = None,

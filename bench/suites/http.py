@@ -51,6 +51,8 @@ class _Server:
         self.url = f"http://127.0.0.1:{self.port}"
         env = {k: v for k, v in os.environ.items() if not k.startswith("TRENDAUDIT_")}
         env["TRENDAUDIT_DATABASE_URL"] = f"sqlite:///{directory / 'bench.sqlite3'}"
+        # Every benchmark client is 127.0.0.1 without a key: one client, as the per-client allowance sees it.
+        env["TRENDAUDIT_ANONYMOUS_RATE_LIMIT"] = "1000000/minute"
         self.log = open(directory / "server.log", "wb")
         self.process = subprocess.Popen([sys.executable, "-m", "app.cli", "serve", "--port", str(self.port),
                                          "--workers", str(WORKERS)], cwd=PROJECT_ROOT, env=env,

@@ -29,7 +29,7 @@ def client(tmp_path) -> Iterator[TestClient]:
 @pytest.fixture
 def keyed(tmp_path) -> Iterator[TestClient]:
     clear_chart_cache()
-    with TestClient(create_app(desk_settings(tmp_path, api_keys="desk-key-one,desk-key-two")),
-                    follow_redirects=False) as test_client:
+    keys = "desk-key-one-0123456789,desk-key-two-0123456789"
+    with TestClient(create_app(desk_settings(tmp_path, api_keys=keys)), follow_redirects=False) as test_client:
         yield test_client
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from app.service.access import desk_token
 from app.web.access import KEY_COOKIE, safe_next
 from web.test_desk_pages import ANNUAL_CSV
 
@@ -22,7 +23,7 @@ def test_a_wrong_key_is_refused_and_not_kept(keyed):
 
 
 def test_a_right_key_is_kept_in_a_strict_httponly_cookie(keyed):
-    page = keyed.post("/access", data={"key": "desk-key-two", "next": "/history"})
+    page = keyed.post("/access", data={"key": "desk-key-two-0123456789", "next": "/history"})
     assert page.status_code == 303 and page.headers["location"] == "/history"
     cookie = page.headers["set-cookie"]
     assert cookie.startswith(f"{KEY_COOKIE}=") and "HttpOnly" in cookie and "SameSite=strict" in cookie
@@ -33,7 +34,7 @@ def test_a_right_key_is_kept_in_a_strict_httponly_cookie(keyed):
 def test_creating_from_the_browser_needs_the_key_too(keyed):
     refused = keyed.post("/audit", data=FORM)
     assert refused.status_code == 401 and 'href="/access?next=/"' in refused.text
-    keyed.cookies.set(KEY_COOKIE, "desk-key-one")
+    keyed.cookies.set(KEY_COOKIE, desk_token("desk-key-one-0123456789"))
     made = keyed.post("/audit", data=FORM)
     assert made.status_code == 303 and made.headers["location"].endswith("/created")
     keyed.cookies.clear()
@@ -48,7 +49,7 @@ def test_a_stale_cookie_is_refused(keyed):
 
 
 def test_the_key_can_be_forgotten(keyed):
-    keyed.cookies.set(KEY_COOKIE, "desk-key-one")
+    keyed.cookies.set(KEY_COOKIE, desk_token("desk-key-one-0123456789"))
     page = keyed.post("/access", data={"forget": "1", "next": "/"})
     assert page.status_code == 303 and f'{KEY_COOKIE}=""' in page.headers["set-cookie"]
 
