@@ -65,6 +65,8 @@ class ClaimIn(_Strict):
     start: float | str = Field(description="Start of the claimed window: " + CLAIM_TIME_HELP)
     end: float | str = Field(description="End of the claimed window: " + CLAIM_TIME_HELP)
     kind: ClaimKind = Field(default="pause", description="What the claim says happened in the window")
+    made_on: str | None = Field(default=None, description="The day the claim was made, YYYY-MM-DD: the report "
+                                "then says what the audit would have said with the data as they stood that day")
 
 
 class OptionsIn(_Strict):
