@@ -105,6 +105,8 @@ def chain_on_delete(document: dict[str, Any]) -> str | None:
     if parent:
         return (f"The chain stays whole: {many} will be linked to the audit this one revised ({parent}), "
                 "and each keeps its own report and what-changed block.")
+    if len(children) == 1:
+        return "It heads its chain: its revision will start the chain from there, and keeps its report."
     return f"It heads its chain: {many} will each start a chain of their own, and keep their reports."
 
 
