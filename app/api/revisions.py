@@ -20,7 +20,7 @@ from app.service.records import AUDITS, read_record, record_body
 from app.service.revising import create_revision, revision_job_from_csv
 from app.service.revisions import check_may_revise, revised_inputs
 from app.service.runtime import Runtime
-from app.service.timeline import record_timeline, with_made_on
+from app.service.timeline import timeline_keeper, with_made_on
 from app.settings import Settings
 
 router = APIRouter(prefix="/api/v1/audits", tags=["audits"])
@@ -99,5 +99,7 @@ async def revise_audit(request: Request, audit_id: str = AUDIT_ID,
 async def timeline(audit_id: str = AUDIT_ID, runtime: Runtime = Depends(get_runtime)) -> JSONResponse:
     """The claim audited with the data cut at each year end from the claim's end to the record's end (at most
     60 cuts, each with a seed derived from the audit's), and, when `claim.made_on` was given, with the data as
-    they stood that day. Computed with the audit and stored with it."""
-    return JSONResponse(await record_timeline(runtime.audits, runtime.pool, audit_id, AUDITS.kind))
+    they stood that day. Computed in the background just after the audit is stored, and kept with it; asked
+for before it is ready, the answer waits for it."""
+    keeper = timeline_keeper(runtime.pool)
+    return JSONResponse(await keeper.get(runtime.audits, runtime.pool, audit_id, AUDITS.kind))

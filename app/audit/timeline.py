@@ -28,7 +28,7 @@ from app.ingest.series import Series
 from app.stats.window_change import monte_carlo_se
 
 MAX_CUTS = 60  # our requirement: a timeline has at most this many rows
-SCREEN_SIMULATIONS = 500
+SCREEN_SIMULATIONS = 200  # measured: most of a cut is fixed cost (segmentation, noise fits), not simulation
 SCREEN_MARGIN = 4.0  # standard errors of the screened p-value within which the audit's own simulations are used
 EDGE = 1e-9
 

@@ -156,7 +156,9 @@ def _timeline_row(row: dict[str, Any], rate: Rate) -> dict[str, Any]:
 def timeline_view(document: dict[str, Any]) -> dict[str, Any] | None:
     """The verdict as each year was added, and on the day the claim was made."""
     timeline = document.get("timeline")
-    if not timeline or not (timeline.get("rows") or timeline.get("at_the_time")):
+    if timeline is None:  # computed just after the audit was stored, and not kept yet
+        return {"pending": True}
+    if not (timeline.get("rows") or timeline.get("at_the_time")):
         return None
     rate = Rate.of(document)
     rows = [_timeline_row(r, rate) for r in timeline.get("rows") or []]
@@ -176,7 +178,7 @@ def timeline_view(document: dict[str, Any]) -> dict[str, Any] | None:
                     f"data to {now['cut']} it finds: {now['verdict'].lower()} (window trend {now['trend']}).")
     elif first_change:
         sentence = f"The verdict first changed with the data to {first_change['cut']}: {first_change['verdict'].lower()}."
-    return {"rows": rows, "chart": chart, "at_the_time": then, "sentence": sentence, "made_on": timeline.get("made_on"),
+    return {"pending": False, "rows": rows, "chart": chart, "at_the_time": then, "sentence": sentence, "made_on": timeline.get("made_on"),
             "first_change": first_change, "skipped": timeline.get("skipped") or [],
             "thinned": (timeline.get("cuts_available") or 0) > len(rows) + len(timeline.get("skipped") or []),
             "rate_unit": rate.axis_unit}

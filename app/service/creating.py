@@ -7,19 +7,19 @@ import asyncio
 from collections.abc import Callable
 from typing import Any
 
-from app.service.audits import AuditJob, store_audit
+from app.service.audits import AuditJob, compute_document, store_audit
 from app.service.comparisons import ComparisonJob, compute_comparison_document, store_comparison
 from app.service.correlations import CorrelationJob, compute_correlation_document, store_correlation
 from app.service.records import AUDITS, COMPARISONS, RecordKind
 from app.service.runtime import Runtime
-from app.service.timeline import compute_audit_with_timeline
+from app.service.timeline import timeline_keeper
 from app.store import AuditRecord
 
 
 def _steps(kind: RecordKind):
     """(compute, store) for a kind of record, looked up when called."""
     if kind is AUDITS:
-        return compute_audit_with_timeline, store_audit
+        return compute_document, store_audit
     if kind is COMPARISONS:
         return compute_comparison_document, store_comparison
     return compute_correlation_document, store_correlation
@@ -38,6 +38,8 @@ async def create_record(runtime: Runtime, kind: RecordKind, job: AuditJob | Corr
     if amend is not None:
         document = amend(document)
     record, owner_token = await asyncio.to_thread(store, runtime.audits, job, document)
+    if kind is AUDITS:  # the verdict as each year was added: computed next, never holding up this answer
+        timeline_keeper(runtime.pool).start(runtime.audits, runtime.pool, record.id, record.input_document)
     if draw_now:
         await asyncio.to_thread(runtime.draw_charts_now, record.id, document, kind.charts)
     else:
