@@ -16,7 +16,7 @@ from app.report.context import VERDICT_LABELS
 from app.report.numbers import Rate, format_p, is_number
 from app.report.palette import GRID, INK, LONG_TERM, MUTED, WINDOW
 
-CHART_WIDTH = 640
+CHART_WIDTH = 440  # narrow enough that its words stay readable on a phone, where it is drawn at full width
 MAX_LISTED_PERIODS = 24  # a longer list of periods is cut, saying how many more
 
 
@@ -71,17 +71,17 @@ def range_chart(items: Sequence[dict[str, Any]], rate: Rate, *, horizontal: bool
     low, high = low - pad, high + pad
     n = len(usable)
     if horizontal:
-        left, right, row = 150.0, CHART_WIDTH - 20.0, 28.0
+        left, right, row = 124.0, CHART_WIDTH - 16.0, 28.0
         top = 16.0
         height = int(top + row * n + 40)
         scale = lambda v: left + (v - low) / (high - low) * (right - left)  # noqa: E731
         place = lambda k: top + row * (k + 0.5)  # noqa: E731
     else:
-        left, right, top, bottom = 56.0, CHART_WIDTH - 16.0, 14.0, 190.0
+        left, right, top, bottom = 56.0, CHART_WIDTH - 12.0, 14.0, 190.0
         height = 236
         scale = lambda v: bottom - (v - low) / (high - low) * (bottom - top)  # noqa: E731
         place = lambda k: left + (right - left) * ((k + 0.5) / n)  # noqa: E731
-    every = max(1, math.ceil(n / 10))
+    every = max(1, math.ceil(n / 6))
     marks = tuple(Mark(label=str(i["label"]), at=place(k), value=scale(rate.scaled(i["slope"])),
                        low=scale(rate.scaled(i["ci"][0])), high=scale(rate.scaled(i["ci"][1])),
                        tick=horizontal or k % every == 0 or k == n - 1, title=str(i.get("title") or i["label"]))
