@@ -5,14 +5,13 @@ from __future__ import annotations
 from fastapi import APIRouter, Depends, Request
 from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import JSONResponse
-from starlette.datastructures import UploadFile
 
-from app.api.bodies import is_json, media_type, validated
+from app.api.bodies import form_upload, is_json, media_type, validated
 from app.api.deps import require_api_key
 from app.api.records import Resource, add_record_routes
 from app.api.schemas import AuditOut, AuditPage, AuditRequest
 from app.dependencies import get_runtime
-from app.errors import Location, SeriesFormatError, UnsupportedMediaType
+from app.errors import Location, UnsupportedMediaType
 from app.service.audits import AuditJob, job_from_json
 from app.service.creating import create_record
 from app.service.forms import job_from_form
@@ -41,10 +40,7 @@ async def job_from_request(request: Request, settings: Settings) -> AuditJob:
         return await run_in_threadpool(_job_from_json_bytes, raw, settings)
     if kind == "multipart/form-data":
         async with request.form(max_files=1, max_fields=60) as form:
-            upload = form.get("file")
-            if not isinstance(upload, UploadFile):
-                raise SeriesFormatError("no CSV file in the field 'file'", location=Location(field="file"),
-                                        fix="Attach the CSV as the form field 'file'")
+            upload = form_upload(form, "CSV file")
             data = await upload.read()
             return await run_in_threadpool(job_from_form, form, data, upload.filename, settings)
     raise UnsupportedMediaType(f"the body is '{kind or 'untyped'}'", location=Location(field="Content-Type"),

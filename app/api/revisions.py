@@ -8,13 +8,13 @@ from typing import Any
 from fastapi import APIRouter, Depends, Header, Path, Request
 from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import JSONResponse
-from starlette.datastructures import UploadFile
 
-from app.api.bodies import is_json, media_type, validated
+from app.api.bodies import form_upload, is_json, media_type, validated
 from app.api.history_schemas import RevisionRequest, TimelineOut
 from app.api.schemas import AuditOut, AuditRequest, ClaimIn, OptionsIn
 from app.dependencies import get_runtime
-from app.errors import Location, SeriesFormatError, UnsupportedMediaType
+from app.errors import Location, UnsupportedMediaType
+from app.service.forms import form_text
 from app.service.audits import AuditJob, job_from_json
 from app.service.records import AUDITS, read_record, record_body
 from app.service.revising import create_revision, revision_job_from_csv
@@ -48,18 +48,12 @@ async def revision_job(request: Request, parent: Any, settings: Settings) -> Aud
         return await run_in_threadpool(_revision_from_json, await request.body(), parent, settings)
     if kind == "multipart/form-data":
         async with request.form(max_files=1, max_fields=60) as form:
-            upload = form.get("file")
-            if not isinstance(upload, UploadFile):
-                raise SeriesFormatError("no file in the field 'file'", location=Location(field="file"),
-                                        fix="Attach the new version of the series as the form field 'file'")
+            upload = form_upload(form, "file of the new version of the series")
             data = await upload.read()
-            texts = {name: form.get(name) for name in ("title", "time_column", "value_column")}
-            if not all(value is None or isinstance(value, str) for value in texts.values()):
-                raise SeriesFormatError("a text field holds a file", location=Location(field="title"),
-                                        fix="Send title, time_column and value_column as plain form fields")
+            texts = {name: form_text(form, name) for name in ("title", "time_column", "value_column")}
         return await run_in_threadpool(lambda: revision_job_from_csv(
             parent, data, settings=settings, filename=upload.filename, title=texts["title"] or "",
-            time_column=texts["time_column"] or None, value_column=texts["value_column"] or None))
+            time_column=texts["time_column"], value_column=texts["value_column"]))
     raise UnsupportedMediaType(f"the body is '{kind or 'untyped'}'", location=Location(field="Content-Type"),
                                fix="Send application/json, or multipart/form-data with the file in the field 'file'")
 
@@ -99,7 +93,6 @@ async def revise_audit(request: Request, audit_id: str = AUDIT_ID,
 async def timeline(audit_id: str = AUDIT_ID, runtime: Runtime = Depends(get_runtime)) -> JSONResponse:
     """The claim audited with the data cut at each year end from the claim's end to the record's end (at most
     60 cuts, each with a seed derived from the audit's), and, when `claim.made_on` was given, with the data as
-    they stood that day. Computed in the background just after the audit is stored, and kept with it; asked
-for before it is ready, the answer waits for it."""
-    keeper = timeline_keeper(runtime.pool)
-    return JSONResponse(await keeper.get(runtime.audits, runtime.pool, audit_id, AUDITS.kind))
+    they stood that day. Worked out in the background just after the audit is stored (while no audit is
+computing), and kept with it; asked for before it is ready, the answer waits for it."""
+    return JSONResponse(await timeline_keeper(runtime.pool).get(runtime.audits, audit_id, AUDITS.kind))

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from datetime import date
 
@@ -136,11 +137,15 @@ def audit_cut(series: Series, claim: Claim, options: AuditOptions, moment: float
         change_p_adjusted=float(result.change.p_value_adjusted))
 
 
-def audit_timeline(series: Series, claim: Claim, options: AuditOptions, made_on: str | None = None) -> Timeline:
-    """The claim audited at each year end from its window's end to the record's end, and on the day it was made."""
+def audit_timeline(series: Series, claim: Claim, options: AuditOptions, made_on: str | None = None,
+                   before_each: Callable[[], None] | None = None) -> Timeline:
+    """The claim audited at each year end from its window's end to the record's end, and on the day it was made.
+    ``before_each`` is called before every cut (a background caller waits there to give way to other work)."""
     years = cut_years(series, claim)
     rows, skipped = [], []
+    wait = before_each or (lambda: None)
     for year in thin(years):
+        wait()
         label = period_label(year + 0.5, "annual")
         try:
             rows.append(audit_cut(series, claim, options, year + 1.0, label, year))
@@ -148,6 +153,7 @@ def audit_timeline(series: Series, claim: Claim, options: AuditOptions, made_on:
             skipped.append(SkippedCut(label, error.message))
     at_the_time = None
     if made_on:
+        wait()
         moment = decimal_date(made_on)
         try:
             at_the_time = audit_cut(series, claim, options, moment, made_on, int(round(moment * 1000)))

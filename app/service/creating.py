@@ -39,7 +39,7 @@ async def create_record(runtime: Runtime, kind: RecordKind, job: AuditJob | Corr
         document = amend(document)
     record, owner_token = await asyncio.to_thread(store, runtime.audits, job, document)
     if kind is AUDITS:  # the verdict as each year was added: computed next, never holding up this answer
-        timeline_keeper(runtime.pool).start(runtime.audits, runtime.pool, record.id, record.input_document)
+        timeline_keeper(runtime.pool).start(runtime.audits, record.id, record.input_document)
     if draw_now:
         await asyncio.to_thread(runtime.draw_charts_now, record.id, document, kind.charts)
     else:

