@@ -37,7 +37,8 @@ def _revision_from_json(raw: bytes, parent: Any, settings: Settings) -> AuditJob
     body = validated(RevisionRequest, raw)
     claim, options = revised_inputs(parent)
     request = AuditRequest(title=body.title or parent.title, series=body.series, source=body.source,
-                           ingest=body.ingest, claim=ClaimIn(**claim),
+                           ingest=body.ingest, claim=ClaimIn(**{k: v for k, v in claim.items()
+                                                                if k in ClaimIn.model_fields}),
                            options=OptionsIn(**{k: options.get(k) for k in OptionsIn.model_fields}))
     return with_made_on(job_from_json(request, settings), claim.get("made_on"))
 

@@ -158,8 +158,8 @@ def timeline_view(document: dict[str, Any]) -> dict[str, Any] | None:
     timeline = document.get("timeline")
     if timeline is None:  # computed just after the audit was stored, and not kept yet
         return {"pending": True}
-    if not (timeline.get("rows") or timeline.get("at_the_time")):
-        return None
+    if len(timeline.get("rows") or []) < 2 and not timeline.get("at_the_time"):
+        return None  # the window ends with the record: the timeline would only repeat the audit
     rate = Rate.of(document)
     rows = [_timeline_row(r, rate) for r in timeline.get("rows") or []]
     items = [{"label": r["cut_label"], "slope": r["window_slope"], "ci": r["window_ci"],

@@ -28,6 +28,7 @@ from app.service.limits import check_string_lengths, check_work
 from app.service.payloads import series_payload
 from app.service.timeline import check_made_on
 from app.settings import Settings
+from app.vocabulary import DATASETS_AGREE, DATASETS_DIFFER
 from app.store import COMPARISON, AuditRecord, AuditRepository, NewAudit
 
 MIN_DATASETS, MAX_DATASETS = 2, 8  # our requirement
@@ -127,7 +128,7 @@ def compute_comparison_document(job: ComparisonJob) -> dict[str, Any]:
     return {"schema": DOCUMENT_SCHEMA, "software_version": __version__, "seed": seed,
             "claim": job.input_document["claim"], "options": {**dataclasses.asdict(job.options), "seed": seed},
             "rate": documents[0]["rate"], "datasets": rows, "agreement": agree,
-            "verdict": {"code": "datasets_agree" if agree["all_agree"] else "datasets_differ",
+            "verdict": {"code": DATASETS_AGREE if agree["all_agree"] else DATASETS_DIFFER,
                         "headline": agree["sentence"], "summary": agree["sentence"]}}
 
 
