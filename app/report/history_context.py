@@ -77,7 +77,7 @@ def range_chart(items: Sequence[dict[str, Any]], rate: Rate, *, horizontal: bool
         scale = lambda v: left + (v - low) / (high - low) * (right - left)  # noqa: E731
         place = lambda k: top + row * (k + 0.5)  # noqa: E731
     else:
-        left, right, top, bottom = 56.0, CHART_WIDTH - 12.0, 14.0, 190.0
+        left, right, top, bottom = 64.0, CHART_WIDTH - 12.0, 14.0, 190.0
         height = 236
         scale = lambda v: bottom - (v - low) / (high - low) * (bottom - top)  # noqa: E731
         place = lambda k: left + (right - left) * ((k + 0.5) / n)  # noqa: E731

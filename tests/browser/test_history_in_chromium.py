@@ -63,6 +63,7 @@ def test_the_comparison_page_reads_at_phone_and_desktop_widths(browser, comparis
                 dot = mark.bounding_box()
                 assert frame["x"] <= dot["x"] and dot["x"] + dot["width"] <= frame["x"] + frame["width"], (name, dot)
             view.screenshot(path=str(artifacts / f"{name}-{width}px.png"), full_page=True)
+            view.locator(chart).screenshot(path=str(artifacts / f"{name}-chart-{width}px.png"))
         view.goto(comparison_page)
         assert view.locator("#agreement-sentence").inner_text().startswith("Three of four datasets agree")
         assert view.locator(".datasets tbody tr").count() == 4
