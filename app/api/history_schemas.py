@@ -6,8 +6,8 @@ from typing import Any
 
 from pydantic import BaseModel, ConfigDict, Field
 
-from app.api.schemas import (EXAMPLE_VALUES, EXAMPLE_YEARS, AuditPage, ClaimIn, IngestIn, OptionsIn, SeriesIn,
-                             SourceIn, _Strict)
+from app.api.schemas import (EXAMPLE_VALUES, EXAMPLE_YEARS, AuditPage, ClaimIn, IngestIn, OptionsIn, RecordHead,
+                             SeriesIn, SourceIn, _Strict)
 from app.service.comparisons import MAX_DATASETS, MIN_DATASETS
 
 
@@ -45,15 +45,9 @@ class ComparisonRequest(_Strict):
     }]})
 
 
-class ComparisonOut(BaseModel):
-    model_config = ConfigDict(extra="allow")
-    id: str
-    kind: str
-    title: str
-    created_at: str = Field(description="UTC, ISO 8601")
-    url: str
-    report_url: str
-    owner_token: str | None = Field(default=None, description="Shown once, on creation: keep it to delete it")
+class ComparisonOut(RecordHead):
+    """The stored comparison: its document plus where it lives."""
+
     claim: dict[str, Any]
     datasets: list[dict[str, Any]] = Field(description="Per dataset: verdict, window and long-term trends with "
                                                        "their ranges (per year)")

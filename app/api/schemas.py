@@ -327,8 +327,8 @@ class CorrelationRequest(_Strict):
     }]})
 
 
-class CorrelationOut(BaseModel):
-    """The stored correlation audit: its document plus where it lives. Only a create answer holds owner_token."""
+class RecordHead(BaseModel):
+    """Who and where a stored record is, before its document. Only a create answer holds owner_token."""
 
     model_config = ConfigDict(extra="allow")
     id: str
@@ -339,6 +339,11 @@ class CorrelationOut(BaseModel):
     report_url: str
     data_url: str
     owner_token: str | None = Field(default=None, description="Shown once, on creation: keep it to delete the audit")
+
+
+class CorrelationOut(RecordHead):
+    """The stored correlation audit: its document plus where it lives. Only a create answer holds owner_token."""
+
     verdict: VerdictOut
     r_levels: float | None = Field(description="Correlation of the levels over the shared times")
     r_detrended: float | None = Field(description="... of the series with their own straight lines taken out")
