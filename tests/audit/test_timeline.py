@@ -69,3 +69,31 @@ def test_at_most_sixty_cuts_spread_evenly():
     picked = thin(years)
     assert len(picked) == MAX_CUTS and picked[0] == 1900 and picked[-1] == 2023
     assert thin(years[:10]) == years[:10]
+
+
+def _simulated(flat_from: float | None, seed: int) -> Series:
+    """Invented annual record 1900-2030: 0.02 a year with AR(1) noise (phi 0.4, sd 0.08), flat from ``flat_from``."""
+    from app.stats.noise import NoiseModel, simulate_noise
+
+    t = np.arange(1900, 2031) + 0.5
+    trend = 0.02 * (t - t[0])
+    if flat_from is not None:
+        trend = np.where(t >= flat_from, 0.02 * (flat_from - t[0]), trend)
+    noise = simulate_noise(NoiseModel("ar1", phi=0.4, sigma=0.08 * np.sqrt(1 - 0.16)), t.size, 1,
+                           np.random.default_rng(seed))[0]
+    return Series(time=t, value=trend + noise, sampling="annual", label="simulated", units="°C")
+
+
+def test_as_years_are_added_a_real_pause_gains_support_and_a_steady_trend_contradicts_it():
+    options = AuditOptions(seed=7, simulations=400)
+    claim = Claim(2000.0, 2008.0, "pause")
+    real = audit_timeline(_simulated(2000.0, seed=1), claim, options)
+    steady = audit_timeline(_simulated(None, seed=1), claim, options)
+    assert [row.cut_label for row in real.rows] == [str(y) for y in range(2008, 2031)]
+    # A flat stretch that goes on: its trend to date narrows around zero and, with enough years, the change shows.
+    assert real.rows[-1].code == "trend_change_supported"
+    assert real.rows[-1].window_ci[0] < 0 < real.rows[-1].window_ci[1]
+    assert all(row.code != "claim_contradicted" for row in real.rows)
+    # The same noise on a steady trend: once enough years are in, the "pause" is contradicted and stays so.
+    assert steady.rows[-1].code == "claim_contradicted" and steady.rows[-1].window_ci[0] > 0
+    assert all(row.code != "trend_change_supported" for row in steady.rows)
