@@ -22,3 +22,7 @@ NO_CLEAR_LINK = "no_clear_link"
 WEAK_WINDOWS_UNUSUAL = "weak_windows_unusual"
 WINDOWS_AGREE = "windows_agree"
 WEAK_WINDOWS_EXPECTED = "weak_windows_expected"
+
+# A comparison of one claim on several datasets (wording: app.service.comparisons).
+DATASETS_AGREE = "datasets_agree"
+DATASETS_DIFFER = "datasets_differ"

@@ -18,6 +18,7 @@ from app.service.creating import create_record
 from app.service.forms import job_from_form
 from app.service.records import AUDITS, record_body
 from app.service.runtime import Runtime
+from app.service.timeline import with_made_on
 from app.settings import Settings
 
 router = APIRouter(prefix="/api/v1/audits", tags=["audits"])
@@ -54,7 +55,8 @@ async def job_from_request(request: Request, settings: Settings) -> AuditJob:
 
 
 def _job_from_json_bytes(raw: bytes, settings: Settings) -> AuditJob:
-    return job_from_json(validated(AuditRequest, raw), settings)
+    request = validated(AuditRequest, raw)
+    return with_made_on(job_from_json(request, settings), request.claim.made_on)
 
 
 @router.post(

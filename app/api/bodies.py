@@ -7,8 +7,9 @@ from typing import TypeVar
 from fastapi import Request
 from fastapi.exceptions import RequestValidationError
 from pydantic import BaseModel, ValidationError
+from starlette.datastructures import FormData, UploadFile
 
-from app.errors import Location, UnsupportedMediaType
+from app.errors import Location, SeriesFormatError, UnsupportedMediaType
 
 Model = TypeVar("Model", bound=BaseModel)
 
@@ -34,3 +35,12 @@ def validated(model: type[Model], raw: bytes) -> Model:
         return model.model_validate_json(raw)
     except ValidationError as error:
         raise RequestValidationError(error.errors(include_url=False)) from None
+
+
+def form_upload(form: FormData, what: str) -> UploadFile:
+    """The file posted in the form's field 'file'; ``what`` says what it should hold ("CSV file")."""
+    upload = form.get("file")
+    if not isinstance(upload, UploadFile):
+        raise SeriesFormatError(f"no {what} in the field 'file'", location=Location(field="file"),
+                                fix=f"Attach the {what} as the form field 'file'")
+    return upload

@@ -76,6 +76,8 @@ class ClaimIn(ClaimRecordIn):
     start: Edge = Field(description="Start of the claimed window: " + CLAIM_TIME_HELP)
     end: Edge = Field(description="End of the claimed window: " + CLAIM_TIME_HELP)
     kind: ClaimKind = Field(default="pause", description="What the claim says happened in the window")
+    made_on: str | None = Field(default=None, description="The day the claim was made, YYYY-MM-DD: the report "
+                                "then says what the audit would have said with the data as they stood that day")
 
 
 class OptionsIn(_Strict):
@@ -87,7 +89,7 @@ class OptionsIn(_Strict):
                                                                      "written like a window edge")
     reference_end: Edge | None = Field(default=None, description="End of the long-term reference period")
     rate_unit: RateUnit | None = Field(default=None, description="How slopes are worded for readers")
-    seasonal: Literal["auto", "remove", "keep"] = Field(
+    seasonal: Literal["auto", "remove", "keep"] | None = Field(
         default="auto", description="A monthly or quarterly series' seasonal cycle: 'auto' takes it out (anomalies "
                                     "from each calendar month's mean over the reference period) when a test finds "
                                     "one, 'remove' always, 'keep' never; the answer's inputs.seasonal says what "
@@ -383,8 +385,8 @@ class CorrelationRequest(_Strict):
     }]})
 
 
-class CorrelationOut(BaseModel):
-    """The stored correlation audit: its document plus where it lives. Only a create answer holds owner_token."""
+class RecordHead(BaseModel):
+    """Who and where a stored record is, before its document. Only a create answer holds owner_token."""
 
     model_config = ConfigDict(extra="allow")
     id: str
@@ -396,6 +398,11 @@ class CorrelationOut(BaseModel):
     data_url: str
     links: LinksOut
     owner_token: str | None = Field(default=None, description="Shown once, on creation: keep it to delete the audit")
+
+
+class CorrelationOut(RecordHead):
+    """The stored correlation audit: its document plus where it lives. Only a create answer holds owner_token."""
+
     verdict: VerdictOut
     r_levels: float | None = Field(description="Correlation of the levels over the shared times")
     r_detrended: float | None = Field(description="... of the series with their own straight lines taken out")

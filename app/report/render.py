@@ -23,6 +23,7 @@ from app.report.chart_sets import CORRELATION_CHARTS
 from app.report.charts import CHART_NAMES
 from app.report.context import ReportContext, report_context
 from app.report.correlation_context import correlation_context
+from app.report.history_context import chain_view, changes_view, comparison_view, timeline_view
 from app.report.palette import PALETTE_NAME
 from app.report.plain_words import GLOSSARY
 from app.report.sharing import share_view
@@ -90,9 +91,12 @@ def report_parts(audit: Any, *, source: Mapping[str, Any] | None = None, base_ur
 
 
 def report_values(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
-                  owner: OwnerNotice | None = None, shelf: ChartShelf | None = None) -> dict[str, Any]:
-    """Everything report.html renders: the context, the adjustment when there is one, the charts in page order."""
+                  owner: OwnerNotice | None = None, shelf: ChartShelf | None = None,
+                  chain: Mapping[str, Any] | None = None) -> dict[str, Any]:
+    """Everything report.html renders: the context, the adjustment when there is one, the charts in page order;
+    ``chain``, the audits this one revised and those revising it, as the service found them."""
     context, charts = report_parts(audit, source=source, base_url=base_url, shelf=shelf)
+    document = stored_result(audit).document
     by_name = {chart.name: chart for chart in charts}
     adjusted_chart = by_name.get(ADJUSTED_CHART_NAME)
     lead_chart = by_name.get(LEAD_CHART)  # the one chart at the top, for readers who go no further
@@ -105,15 +109,19 @@ def report_values(audit: Any, *, source: Mapping[str, Any] | None = None, base_u
             "adjusted_chart": adjusted_chart, "evidence_charts": evidence,
             "lead_chart": lead_chart, "claim": stored.document.get("claim") or {}, "charts": in_page_order,
             "chart_numbers": {chart.name: number for number, chart in enumerate(in_page_order, start=1)},
-            "noindex": True, "page_title": f"{context.title} - Trend Audit", "owner": owner}
+            "noindex": True, "page_title": f"{context.title} - Trend Audit", "owner": owner,
+            "changes": changes_view(document), "timeline": timeline_view(document),
+            "chain": chain_view(document, dict(chain) if chain else None),
+            "chain_on_delete": (chain or {}).get("on_delete")}
 
 
 def render_report(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
-                  owner: OwnerNotice | None = None, shelf: ChartShelf | None = None) -> str:
+                  owner: OwnerNotice | None = None, shelf: ChartShelf | None = None,
+                  chain: Mapping[str, Any] | None = None) -> str:
     """The report page for one stored audit, as a complete HTML document; with ``owner``, the page just after
     creating it, which shows the owner token once. ``shelf`` is where its charts may already be kept."""
     return render_page("report.html", **report_values(audit, source=source, base_url=base_url, owner=owner,
-                                                      shelf=shelf))
+                                                      shelf=shelf, chain=chain))
 
 
 def correlation_values(correlation: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
@@ -134,3 +142,18 @@ def render_correlation_report(correlation: Any, *, source: Mapping[str, Any] | N
     """The report page for one stored driver-response correlation audit, from its record or the API's body."""
     return render_page("correlation.html", **correlation_values(correlation, source=source, base_url=base_url,
                                                                 owner=owner, shelf=shelf))
+
+
+def render_comparison(comparison: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
+                      owner: OwnerNotice | None = None, shelf: ChartShelf | None = None) -> str:
+    """The page of one stored comparison: the datasets' verdicts side by side, one chart, the agreement."""
+    stored = stored_result(comparison)
+    permalink = stored.report_url or f"{base_url.rstrip('/')}/comparisons/{stored.id}"
+    created = stored.created_at.strftime("%Y-%m-%d %H:%M UTC") if hasattr(stored.created_at, "strftime") \
+        else str(stored.created_at or "")
+    return render_page("comparison.html", comparison=comparison_view(stored.document), document=stored.document,
+                       record={"id": stored.id, "title": stored.title, "created_at": created,
+                               "permalink": permalink, "json": f"/api/v1/comparisons/{stored.id}",
+                               "csv": f"/api/v1/comparisons/{stored.id}/data.csv",
+                               "delete": f"/comparisons/{stored.id}/delete"},
+                       owner=owner, noindex=True, page_title=f"{stored.title} - Trend Audit")

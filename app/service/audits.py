@@ -19,7 +19,7 @@ from app.audit import AuditOptions, Claim, audit_document, run_audit
 from app.audit.claim import check_claim, check_options
 from app.errors import ClaimError, InputError, Location
 from app.ingest import IngestOptions, ParsedTable, Series, check_window_in_series, series_from_json
-from app.service.claims import (ClaimInput, ClaimRecord, claim_record, derived_seed, edge_instant, listed_claim,
+from app.service.claims import (ClaimInput, ClaimRecord, Edge, claim_record, derived_seed, edge_instant, listed_claim,
                                  resolved_claim, search_text, window_echo)
 from app.service.covariates import (FORM_COVARIATE_FIELDS, CovariateSeries, check_lag_cells, covariate_payload,
                                     covariates_from_json, covariates_from_table)
@@ -72,6 +72,18 @@ def claim_time(value: float | int | str, field: str, role: str = "start") -> flo
     """A window edge as the instant it stands for (``app.ingest.window_edges``): a whole year, quarter, month or
     day begins at its first instant as a start and includes all of it as an end; a decimal year is an instant."""
     return edge_instant(value, role, field)
+
+
+def make_claim(start: Edge, end: Edge, kind: str, prefix: str = "claim.") -> Claim:
+    """A claim whose edges are resolved without a series (every series it is audited against shares them)."""
+    return Claim(start=edge_instant(start, "start", f"{prefix}start"), end=edge_instant(end, "end", f"{prefix}end"),
+                 kind=kind)
+
+
+def given_claim(stored: dict[str, Any], max_length: int) -> ClaimInput:
+    """A stored audit's claim as it was given (its edges as written, its record), to audit again."""
+    return ClaimInput(kind=stored["kind"], start=stored.get("start_given", stored["start"]),
+                      end=stored.get("end_given", stored["end"]), record=claim_record(stored, max_length))
 
 
 def default_title(series: Series, claim: Claim, window: dict[str, Any]) -> str:

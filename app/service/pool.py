@@ -40,6 +40,7 @@ class ComputePool:
         self._in_use = 0
         self._idle = threading.Event()
         self._idle.set()
+        self.closed = False  # set when the server stops: background work waiting for an idle pool gives up
 
     @property
     def in_use(self) -> int:
@@ -86,4 +87,5 @@ class ComputePool:
                 fix="Ask for fewer simulations, or audit a shorter or coarser (e.g. annual) series") from None
 
     def shutdown(self) -> None:
+        self.closed = True
         self._executor.shutdown(wait=False, cancel_futures=True)

@@ -12,9 +12,11 @@ from typing import Any
 
 from app.report.chart_sets import AUDIT_CHARTS, CORRELATION_CHARTS, ChartSet
 from app.service.claims import search_words
+from app.service.comparisons import comparison_data_csv
 from app.service.csv_export import audit_data_csv, correlation_data_csv
+from app.service.revisions import chain_on_delete, relink_after_delete
 from app.settings import Settings
-from app.store import AUDIT, CORRELATION, AuditRecord, AuditRepository, Page
+from app.store import AUDIT, COMPARISON, CORRELATION, AuditRecord, AuditRepository, Page
 
 
 @dataclass(frozen=True)
@@ -54,6 +56,10 @@ AUDITS = RecordKind(AUDIT, "audit", "/api/v1/audits", "/audits", AUDIT_CHARTS, a
                     "q3mZ0kYtq1bq2VY8h8o0fJcL")
 CORRELATIONS = RecordKind(CORRELATION, "driver-and-response audit", "/api/v1/correlations", "/correlations",
                           CORRELATION_CHARTS, correlation_data_csv, "correlation_id", "Vx0d3kq7b2mYtq1bq2VY8h8o")
+# A comparison's one chart is drawn with its page (a few marks per dataset), so it keeps no chart files.
+COMPARISON_CHARTS = ChartSet(COMPARISON, "/comparisons", {}, lambda document: ())
+COMPARISONS = RecordKind(COMPARISON, "comparison", "/api/v1/comparisons", "/comparisons", COMPARISON_CHARTS,
+                         comparison_data_csv, "comparison_id", "Qw2b8Yt0kq1mZ3VY8h8o0fJc")
 
 
 def with_article(noun: str) -> str:
@@ -100,8 +106,12 @@ def read_body(audits: AuditRepository, kind: RecordKind, record_id: str, setting
     return record_body(kind, read_record(audits, kind, record_id), settings)
 
 
-def delete_record(audits: AuditRepository, kind: RecordKind, record_id: str, owner_token: str | None) -> None:
+def delete_record(audits: AuditRepository, kind: RecordKind, record_id: str, owner_token: str | None) -> str | None:
+    """Deletes the record; for an audit in a chain of revisions, closes the gap and says how (else None)."""
+    document = audits.get(record_id, kind=kind.kind).result_document
     audits.delete(record_id, owner_token, kind=kind.kind)
+    relink_after_delete(audits, document, record_id)
+    return chain_on_delete(document)
 
 
 def record_data_csv(audits: AuditRepository, kind: RecordKind, record_id: str) -> tuple[str, str]:

@@ -37,7 +37,8 @@ MAX_SEQ = 2**63 - 1  # BIGINT's largest value
 RECORD_ROOM_BYTES = 8 * 1024 * 1024
 AUDIT = "audit"
 CORRELATION = "correlation"
-KIND_NOUNS = {AUDIT: "audit", CORRELATION: "correlation audit"}
+COMPARISON = "comparison"
+KIND_NOUNS = {AUDIT: "audit", CORRELATION: "correlation audit", COMPARISON: "comparison"}
 
 # The schema itself lives in the migrations; this names the columns the queries use, with the types
 # that need converting on the way in and out (JSON documents, timezone-aware times).
@@ -237,6 +238,36 @@ class AuditRepository:
                                        location=Location(field="X-Owner-Token"),
                                        fix=f"Send the owner_token returned when this {noun} was created")
                 connection.execute(t.delete().where(t.c.id == audit_id))
+
+
+    def update(self, changes: dict[str, dict[str, Any]], summary_changes: dict[str, dict[str, Any]] | None = None
+               ) -> None:
+        """Merges top-level keys into stored result documents (and summaries), for several records in one
+        transaction: links between records, and what is computed for a record after it was stored."""
+        t = audits_table
+        summary_changes = summary_changes or {}
+        with self.engine.connect().execution_options(**write_options(self.engine)) as connection:
+            with connection.begin():
+                for record_id in sorted(set(changes) | set(summary_changes)):
+                    row = connection.execute(sa.select(t.c.summary, t.c.result_document)
+                                             .where(t.c.id == record_id).with_for_update()).mappings().first()
+                    if row is None:
+                        continue  # deleted meanwhile: nothing left to link
+                    values = {}
+                    if record_id in changes:
+                        values["result_document"] = {**row["result_document"], **changes[record_id]}
+                    if record_id in summary_changes:
+                        values["summary"] = {**row["summary"], **summary_changes[record_id]}
+                    connection.execute(t.update().where(t.c.id == record_id).values(**values))
+
+    def check_owner(self, audit_id: str, owner_token: str | None, kind: str | None = None) -> bool:
+        """Whether ``owner_token`` is the record's owner token (False when absent); not found raises."""
+        t = audits_table
+        with self.engine.connect() as connection:
+            stored = connection.execute(sa.select(t.c.owner_token_sha256).where(_identified(audit_id, kind))).scalar()
+        if stored is None:
+            raise _not_found(audit_id, kind)
+        return bool(owner_token) and hmac.compare_digest(stored.encode(), token_digest(owner_token).encode())
 
 
 def _like_escaped(text: str) -> str:

