@@ -21,7 +21,7 @@ from matplotlib.ticker import PercentFormatter
 
 from app.report import palette
 from app.report.figures import CHART_WIDTH, lay_out, new_figure, styled
-from app.report.numbers import Rate, format_percent, format_probability, format_years, is_number, time_of
+from app.report.numbers import Rate, format_percent, format_probability, format_years, is_number, time_of, window_span
 
 GAP_FACTOR = 1.5  # a step this many times the usual one means values are missing between
 LABEL_WRAP = 60  # characters per line of a series name above a chart
@@ -64,8 +64,7 @@ def _name_document_values(ax, doc: dict[str, Any]) -> str:
 
 
 def claim_span(doc: dict[str, Any]) -> str:
-    claim = doc["claim"]
-    return f"{time_of(doc, claim['start'])} to {time_of(doc, claim['end'])}"
+    return window_span(doc)
 
 
 def confidence_text(doc: dict[str, Any]) -> str:

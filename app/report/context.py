@@ -14,7 +14,7 @@ from urllib.parse import urlsplit
 from app.report.claim_context import ClaimView, claim_view, window_change_text, window_words
 from app.report.plain_words import (ROBUSTNESS_HEADINGS, KeyNumberWords, Words, fit_words, key_number_words,
                                     plain_paragraph, what_would_change)
-from app.report.numbers import Rate, format_p, is_number, time_of
+from app.report.numbers import Rate, format_p, is_number, time_of, window_span
 from app.vocabulary import (ACCELERATION, CHANGE_SUPPORTED, CONSISTENT, CONTRADICTED, LEVEL_SHIFT, MODEL_DEPENDENT,
                             NO_TREND, OTHER_CHANGE, PAUSE, REVERSAL, SLOWDOWN, TOO_SHORT)
 
@@ -173,7 +173,7 @@ def created_text(created_at: Any) -> str:
 def claim_text(doc: dict[str, Any]) -> str:
     claim = doc.get("claim") or {}
     what = CLAIM_WORDS.get(claim.get("kind"), str(claim.get("kind", "a change")))
-    window = window_words(claim) or f"{time_of(doc, claim.get('start'))} to {time_of(doc, claim.get('end'))}"
+    window = window_words(claim) or window_span(doc)
     return f"{what[0].upper()}{what[1:]} from {window}"
 
 

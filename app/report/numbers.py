@@ -49,6 +49,16 @@ def time_of(document: dict[str, Any], value: Any) -> str:
     return format_time(value, (document.get("inputs") or {}).get("sampling") or "")
 
 
+def window_span(document: dict[str, Any]) -> str:
+    """The claimed window as its first and last periods ("1998 to 2013"), not its half-open edges
+    ("1998 to 2014"); records stored before the window was echoed fall back to the edges."""
+    claim = document.get("claim") or {}
+    window = claim.get("window") or {}
+    first = window.get("first") or time_of(document, claim.get("start"))
+    last = window.get("last") or time_of(document, claim.get("end"))
+    return f"{first} to {last}"
+
+
 def format_years(value: Any) -> str:
     if not is_number(value):
         return "undetermined"

@@ -13,7 +13,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from app.audit.verdict import format_number
-from app.report.numbers import Rate, format_p, format_probability, format_years, is_number, time_of
+from app.report.numbers import Rate, format_p, format_probability, format_years, is_number, time_of, window_span
 from app.vocabulary import ACCELERATION, TOO_SHORT
 
 GLOSSARY = (
@@ -120,7 +120,7 @@ def plain_paragraph(doc: dict[str, Any]) -> tuple[Words, ...]:
     detect = doc.get("detectability") or {}
     years = window_years(doc)
     name = (doc.get("inputs") or {}).get("label") or "the series"
-    first = (f"From {time_of(doc, claim.get('start'))} to {time_of(doc, claim.get('end'))} ({format_years(years)} "
+    first = (f"From {window_span(doc)} ({format_years(years)} "
              f"years), {name} shows {_amount(doc, win.get('slope'), years)}: a trend of {rate.text(win.get('slope'))}. ")
     second = (f"Over {time_of(doc, ref.get('start'))} to {time_of(doc, ref.get('end'))} the long-term trend is "
               f"{rate.text(lt.get('slope'))}, which over a window this long makes {_amount(doc, lt.get('slope'), years)}. ")

@@ -16,7 +16,7 @@ from app import __version__
 from app.report.charts import stored_array
 from app.report.context import CLAIM_WORDS, VERDICT_LABELS, created_text
 from app.report.correlation_context import CORRELATION_VERDICT_LABELS
-from app.report.numbers import Rate, time_of
+from app.report.numbers import Rate, window_span
 
 SOFTWARE_NAME = "Trend Audit"
 CLAIM_BRIEF_CHARACTERS = 180  # the card has room for about three lines of the claim (our requirement)
@@ -35,10 +35,7 @@ def claim_brief(doc: dict[str, Any]) -> str:
     if isinstance(said, str) and said.strip():
         return _clipped(said, CLAIM_BRIEF_CHARACTERS)
     kind = CLAIM_WORDS.get(claim.get("kind"), f"a {claim.get('kind', 'change')}")
-    window = claim.get("window") or {}
-    first = window.get("first") or time_of(doc, claim.get("start"))
-    last = window.get("last") or time_of(doc, claim.get("end"))
-    return f"A claimed {kind.split(' ', 1)[1]} from {first} to {last}"
+    return f"A claimed {kind.split(' ', 1)[1]} from {window_span(doc)}"
 
 
 def short_link(permalink: str) -> str:
@@ -112,7 +109,7 @@ def card_alt_text(face: CardFace, doc: dict[str, Any]) -> str:
     if face.window is not None:
         rate = Rate.of(doc)
         chart = (f"A small chart of {face.value_label or 'the series'} with the claimed window, "
-                 f"{time_of(doc, face.window[0])} to {time_of(doc, face.window[1])}, shaded; the long-term trend is "
+                 f"{window_span(doc)}, shaded; the long-term trend is "
                  f"{rate.text((doc.get('long_term') or {}).get('slope'))} and the window's trend "
                  f"{rate.text((doc.get('window') or {}).get('slope'))}.")
     else:

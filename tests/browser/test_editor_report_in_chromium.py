@@ -16,7 +16,8 @@ MAX_PRINTED_PAGES = 6  # our requirement
 HOSTILE_TITLE = '<script>alert(1)</script> "><img src=x onerror=alert(1)> & ]]>'
 PDF_PAGE = re.compile(rb"/Type\s*/Page(?![a-zA-Z])")  # one page object per printed page (PDF 1.7, section 7.7.3.3)
 
-CHART_BOXES = """() => [...document.querySelectorAll('figure.chart')].map(figure => {
+# The report's five charts; the timeline's chart has a frame of its own (tests/browser/test_history_in_chromium.py).
+CHART_BOXES = """() => [...document.querySelectorAll('figure.chart:has(.chart-image)')].map(figure => {
     const box = figure.querySelector('.chart-image'), svg = box.querySelector('svg');
     const outer = box.getBoundingClientRect(), drawn = svg.getBoundingClientRect();
     const view = svg.viewBox.baseVal;
@@ -142,7 +143,7 @@ def test_the_verdict_card_renders_the_claim_the_verdict_and_the_link(browser, se
         "claim": {"start": 1998, "end": 2013, "kind": "pause"}, "options": {"simulations": 200, "seed": 3}})
     assert answer.status_code == 201, answer.text
     body = answer.json()
-    report = server + answer.headers["location"]
+    report = server + answer.json()["report_url"]
     texts, box, live = _card_page(browser, f"{report}/card.svg?shape={shape}", size,
                                   artifacts / f"card-{shape}.png")
     assert box == [size[0], size[1]]
@@ -165,6 +166,6 @@ def test_a_correlation_audit_has_a_card(browser, server, artifacts):
         "response": {"time": years, "value": response, "label": "Response anomaly", "units": "°C"},
         "options": {"simulations": 200, "seed": 4}})
     assert answer.status_code == 201, answer.text
-    report = server + answer.headers["location"]
+    report = server + answer.json()["report_url"]
     texts, _, _ = _card_page(browser, f"{report}/card.svg", (1200, 675), artifacts / "card-correlation.png")
     assert "Does Response anomaly follow Driver index" in texts and report.removeprefix("http://") in texts

@@ -40,7 +40,7 @@ def timeline_report(server) -> str:
         "options": {"simulations": 200, "seed": 5}})
     assert answer.status_code == 201, answer.text
     assert httpx.get(f"{server}/api/v1/audits/{answer.json()['id']}/timeline", timeout=120).status_code == 200
-    return f"{server}{answer.headers['location']}"
+    return f"{server}{answer.json()['report_url']}"
 
 
 @pytest.mark.parametrize("width", [390, 1280])

@@ -7,7 +7,10 @@ import json
 import re
 
 from app.report.plain_words import GLOSSARY, ROBUSTNESS_HEADINGS, key_number_words, plain_paragraph, what_would_change
+from app.report.charts import claim_span
+from app.report.context import claim_text
 from app.report.render import render_report
+from app.report.sharing import audit_card_face, card_alt_text, claim_brief
 from report.documents import sample_document, stored_body
 
 STATISTICS = re.compile(r"\bp\s*[=<>]|[α-ωΑ-Ω]|σ|AICc|AR\(|ARMA")  # what the top part must not show
@@ -117,3 +120,14 @@ def test_cite_this_audit_as_text_and_csl_json(document):
 def test_sample_document_has_every_part_the_words_read():
     document = json.loads(sample_document())
     assert {"window", "long_term", "spell", "detectability", "cherry_pick", "robustness"} <= set(document)
+
+
+def test_the_window_is_named_by_its_first_and_last_periods_not_its_half_open_edges(document):
+    # A window of annual points 1998..2012 is stored with the edges [1998, 2013); every sentence and legend names
+    # the periods it holds, as the claim block does, so no reader sees "1998 to 2013" for a claim of "1998 to 2012".
+    document["claim"].update(start=1998.0, end=2013.0,
+                             window={"first": "1998", "last": "2012", "points": 15, "start": 1998.0, "end": 2013.0})
+    paragraph = "".join(piece.text for piece in plain_paragraph(document))
+    card = card_alt_text(audit_card_face("w", "A title", document, "https://example.org/audits/w"), document)
+    for text in (paragraph, claim_span(document), claim_brief(document), claim_text(document), card):
+        assert "1998 to 2012" in text and "2013" not in text, text
