@@ -22,7 +22,7 @@ from app.main import create_app
 from app.service.audits import compute_document
 from app.service.batches import key_numbers
 from app.settings import PROJECT_ROOT, Settings
-from .servers import Server
+from .servers import Server, stop_process
 
 DEADLINE_SECONDS = 120
 
@@ -195,13 +195,7 @@ class Worker:
         self.process.wait(timeout=30)
 
     def stop(self) -> None:
-        if self.process.poll() is None:
-            self.process.terminate()
-            try:
-                self.process.wait(timeout=15)
-            except subprocess.TimeoutExpired:
-                self.process.kill()
-                self.process.wait(timeout=15)
+        stop_process(self.process)
         self._log.close()
 
 
