@@ -22,7 +22,9 @@ import secrets
 import threading
 import time
 from collections.abc import Callable
-from concurrent.futures import ThreadPoolExecutor
+import multiprocessing
+import os
+from concurrent.futures import ProcessPoolExecutor, ThreadPoolExecutor
 from typing import Any
 
 from sqlalchemy.engine import make_url
@@ -51,9 +53,10 @@ class ItemRunner:
     """Runs one item to its end: stored once, or failed with a problem document."""
 
     def __init__(self, audits: AuditRepository, batches: BatchRepository, settings: Settings,
-                 read_item: ItemReader, claimed_by: str | None = None) -> None:
+                 read_item: ItemReader, claimed_by: str | None = None,
+                 compute: Callable[[AuditJob], dict[str, Any]] = compute_document) -> None:
         self.audits, self.batches, self.settings = audits, batches, settings
-        self.read_item, self.claimed_by = read_item, claimed_by
+        self.read_item, self.claimed_by, self.compute = read_item, claimed_by, compute
 
     def run(self, item_id: str) -> str | None:
         """The item's status once run (None: gone, cancelled or finished before). Raises to be retried."""
@@ -67,7 +70,7 @@ class ItemRunner:
         started = time.perf_counter()
         try:
             job = self.read_item(item.request, self.settings)
-            document = compute_document(job)
+            document = self.compute(job)
             record, _ = store_audit(self.audits, job, document, job_key=item.id,
                                     owner_token_sha256=item.owner_token_sha256)
         except RetryLater:
@@ -96,10 +99,12 @@ def _gave_up(attempts: int) -> RetryLater:
 
 
 class LocalJobs:
-    """SQLite: the web process runs items on ``batch_workers`` threads of its own. A batch item starts only while
-    the interactive compute pool has a free worker, so a person's audit never waits behind a batch; an item is
-    leased in the store, and the lease renewed while it runs, so after a restart (or in a second process) the
-    items a dead process held are taken up again once their lease ends."""
+    """SQLite: the web process runs items, ``batch_workers`` at a time: each is read and stored by a thread of the
+    web process and computed in a process of its own (a short annual audit is mostly Python, so threads would
+    contend for the interpreter with each other and with the desk's audits; measured in bench/README.md). A batch
+    item starts only while the interactive compute pool has a free worker, so a person's audit never waits behind a
+    batch; an item is leased in the store, and the lease renewed while it runs, so after a restart (or in a second
+    process) the items a dead process held are taken up again once their lease ends."""
 
     def __init__(self, runner: ItemRunner, batches: BatchRepository, pool: ComputePool, settings: Settings,
                  poll_seconds: float = 1.0) -> None:
@@ -110,6 +115,10 @@ class LocalJobs:
         self.lease = settings.job_lease_seconds
         self.poll_seconds = min(poll_seconds, self.lease / 3)
         self._executor = ThreadPoolExecutor(max_workers=self.workers, thread_name_prefix="trendaudit-batch")
+        # Started with the first item ("spawn": a fresh interpreter, never a fork of this threaded process).
+        self._processes = ProcessPoolExecutor(max_workers=self.workers, mp_context=multiprocessing.get_context("spawn"),
+                                              initializer=_end_with_parent, initargs=(os.getpid(),))
+        runner.compute = lambda job: self._processes.submit(compute_document, job).result()
         self._running: set[str] = set()
         self._lock = threading.Lock()
         self._wake = threading.Event()
@@ -162,6 +171,17 @@ class LocalJobs:
         self._stop.set()
         self._wake.set()
         self._executor.shutdown(wait=False, cancel_futures=True)
+        self._processes.shutdown(wait=False, cancel_futures=True)
+
+
+def _end_with_parent(parent: int) -> None:
+    """In a compute process: end when the web process that started it is gone (killed, it cannot say so)."""
+    def watch() -> None:
+        while os.getppid() == parent:
+            time.sleep(1.0)
+        os._exit(0)
+
+    threading.Thread(target=watch, name="trendaudit-parent-watch", daemon=True).start()
 
 
 def conninfo(settings: Settings) -> str:

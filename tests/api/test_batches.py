@@ -169,7 +169,10 @@ def test_sqlite_web_process_killed_and_restarted_mid_batch(tmp_path):
     try:
         batch_id = _submit(server.url, items)
         wait_for(lambda: status(server.url, batch_id)["counts"]["done"] >= 20, what="20 items done")
+        computing = children(server.process.pid)
         server.kill()
+        # its compute processes end too, not left computing for no one
+        wait_for(lambda: not any(os.path.exists(f"/proc/{pid}") for pid in computing), 15, "its processes to end")
     finally:
         server.stop()
     server = Server(database_url, tmp_path / "web2.log", **settings)
@@ -179,6 +182,19 @@ def test_sqlite_web_process_killed_and_restarted_mid_batch(tmp_path):
     finally:
         server.stop()
     check_exactly_once_and_equal_to_single(database_url, items, lines)
+
+
+def children(pid: int) -> list[int]:
+    """The processes ``pid`` started (Linux's /proc; none found elsewhere)."""
+    found = []
+    for entry in os.listdir("/proc") if os.path.isdir("/proc") else []:
+        try:
+            with open(f"/proc/{entry}/stat") as stat:
+                if entry.isdigit() and int(stat.read().rsplit(")", 1)[1].split()[1]) == pid:
+                    found.append(int(entry))
+        except (OSError, ValueError, IndexError):
+            continue
+    return found
 
 
 class Worker:
