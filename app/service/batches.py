@@ -23,6 +23,9 @@ from app.service.runtime import Runtime
 from app.store.batches import CANCELLED, DONE, FAILED, QUEUED, RUNNING, UNFINISHED, Finished
 
 BATCHES_PATH = "/api/v1/batches"
+# Fairness between keys: a key's items past this many in flight queue one priority step lower each, so a small
+# batch from one key is not stuck behind the whole of another key's large one (highest priority runs first).
+FAIR_SHARE_ITEMS = 100
 POLL_SECONDS = 0.5
 # Items finishing together may commit out of their finish times' order: a stream re-reads this far back.
 REREAD = timedelta(seconds=60)
@@ -63,9 +66,11 @@ def accept(runtime: Runtime, requests: list[dict[str, Any]], who: str, *, intera
             f"{in_flight:,} items of yours are queued or running; {len(requests):,} more would pass the limit of "
             f"{settings.max_items_in_flight_per_key:,}", retry_after=60, location=Location(field="items"),
             fix="Wait for your earlier batches to finish, or send fewer items")
-    priority = INTERACTIVE if interactive else BATCH
-    batch_id, item_ids, owner_token = runtime.batches.create(requests, requester=who, priority=priority)
-    runtime.jobs.enqueue(item_ids, priority)
+    priorities = [INTERACTIVE if interactive else BATCH - (in_flight + position) // FAIR_SHARE_ITEMS
+                  for position in range(len(requests))]
+    batch_id, item_ids, owner_token = runtime.batches.create(requests, requester=who, priorities=priorities)
+    for priority in sorted(set(priorities), reverse=True):
+        runtime.jobs.enqueue([i for i, p in zip(item_ids, priorities) if p == priority], priority)
     return Accepted(batch_id, item_ids, owner_token)
 
 

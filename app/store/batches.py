@@ -88,8 +88,10 @@ class BatchRepository:
         return self.engine.connect().execution_options(**write_options(self.engine))
 
     @store_faults
-    def create(self, requests: list[dict[str, Any]], *, requester: str, priority: int) -> tuple[str, list[str], str]:
-        """Keeps a batch and all its items in one transaction: (batch id, item ids in order, owner token)."""
+    def create(self, requests: list[dict[str, Any]], *, requester: str, priorities: list[int]
+               ) -> tuple[str, list[str], str]:
+        """Keeps a batch and all its items (each with its priority) in one transaction: (batch id, item ids in
+        order, owner token)."""
         owner_token = secrets.token_urlsafe(OWNER_TOKEN_BYTES)
         batch_id, now = new_audit_id(), _now()
         item_ids = [new_audit_id() for _ in requests]
@@ -100,7 +102,7 @@ class BatchRepository:
             connection.execute(items_table.insert(), [
                 {"id": item_id, "batch_id": batch_id, "position": position, "priority": priority,
                  "request": request, "status": QUEUED, "attempts": 0}
-                for position, (item_id, request) in enumerate(zip(item_ids, requests))])
+                for position, (item_id, request, priority) in enumerate(zip(item_ids, requests, priorities))])
         return batch_id, item_ids, owner_token
 
     @store_faults
@@ -170,7 +172,7 @@ class BatchRepository:
         query = sa.select(i.c.id).where(free)
         if min_priority is not None:
             query = query.where(i.c.priority >= min_priority)
-        query = query.order_by(i.c.priority.desc(), i.c.batch_id, i.c.position).limit(limit)
+        query = query.order_by(i.c.priority.desc(), i.c.position, i.c.batch_id).limit(limit)
         with self._write() as connection, connection.begin():
             ids = list(connection.execute(query).scalars())
             if ids:

@@ -152,6 +152,17 @@ def test_a_key_past_its_items_in_flight_is_refused(settings):
         assert refused.status_code == 429 and refused.json()["type"] == "/problems/too-much-in-flight"
 
 
+def test_a_small_batch_from_another_key_is_not_stuck_behind_a_large_one(settings):
+    keys = ("first-key-0123456789", "second-key-0123456789")
+    with TestClient(create_app(settings.model_copy(update={"api_keys": ",".join(keys), "batch_workers": 1}))) as client:
+        large, small = ({"Authorization": f"Bearer {key}"} for key in keys)
+        big = client.post("/api/v1/batches", json={"items": invented_items(300)}, headers=large).json()
+        little = client.post("/api/v1/batches", json={"items": invented_items(3, seed=7)}, headers=small).json()
+        _finished(client, little["id"])
+        assert client.get(f"/api/v1/batches/{big['id']}").json()["counts"]["queued"] > 100
+        client.post(f"/api/v1/batches/{big['id']}/cancel", headers={**large, "X-Owner-Token": big["owner_token"]})
+
+
 # --- processes killed mid-batch -------------------------------------------------------------------------------------
 
 def _submit(url: str, items: list[dict]) -> str:
