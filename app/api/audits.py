@@ -78,7 +78,11 @@ def _checked_item(raw: bytes, settings: Settings) -> dict:
 @router.post(
     "", status_code=201, summary="Audit a claim about a series, and store the audit",
     dependencies=[Depends(require_api_key)], openapi_extra={"requestBody": CREATE_BODY},
-    responses={201: {"model": AuditOut, "description": "Stored; Location points at the API resource",
+    responses={202: {"description": "With 'Prefer: respond-async' (JSON): queued as a job, ahead of any batch; "
+                                    "Location is the job (GET /api/v1/jobs/{id})",
+                     "headers": {"Location": {"schema": {"type": "string"}, "description": "/api/v1/jobs/{id}"},
+                                 "Preference-Applied": {"schema": {"type": "string"}}}},
+               201: {"model": AuditOut, "description": "Stored; Location points at the API resource",
                      "headers": {"Location": {"schema": {"type": "string"},
                                               "description": "/api/v1/audits/{id}"}}},
                413: {"description": "Body over the upload limit (refused before reading)"},

@@ -3,7 +3,7 @@
 
 from __future__ import annotations
 
-from fastapi import APIRouter, Depends, Header, Query, Request, Security
+from fastapi import APIRouter, Depends, Header, Path, Query, Request, Security
 from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import JSONResponse, Response, StreamingResponse
 
@@ -17,6 +17,12 @@ from app.service.runtime import Runtime
 
 router = APIRouter(tags=["batches"])
 NDJSON = "application/x-ndjson"
+BATCH_ID = Path(description="The batch's id, as returned on creation", examples=["Hk2VY8h8o0fJcLq3mZ0kYtq1"])
+JOB_ID = Path(description="The job's id: a results line's 'job', or the Location of a 202",
+              examples=["b2mYtq1bq2VY8h8oVx0d3kq7"])
+OWNER_TOKEN = Header(None, description="The owner_token returned when the batch was created")
+NOT_FOUND = {404: {"description": "No batch (or job) with that id"}}
+OWNER = {401: {"description": "No owner token"}, 403: {"description": "Wrong owner token"}, **NOT_FOUND}
 
 
 def who_sent(request: Request, credentials=Security(bearer)) -> str:
@@ -51,16 +57,17 @@ async def create_batch(request: Request, who: str = Depends(who_sent),
     return accepted_answer(runtime, accepted, f"{batches.BATCHES_PATH}/{accepted.batch_id}")
 
 
-@router.get("/api/v1/batches/{batch_id}", summary="A batch's progress: counts per status, time left")
-async def get_batch(batch_id: str, runtime: Runtime = Depends(get_runtime)) -> dict:
+@router.get("/api/v1/batches/{batch_id}", summary="A batch's progress: counts per status, time left",
+            responses=NOT_FOUND)
+async def get_batch(batch_id: str = BATCH_ID, runtime: Runtime = Depends(get_runtime)) -> dict:
     return await run_in_threadpool(batches.batch_status, runtime, batch_id)
 
 
 @router.get("/api/v1/batches/{batch_id}/results", summary="Results as NDJSON, in the order items finished",
             response_class=StreamingResponse,
-            responses={200: {"content": {NDJSON: {"example": '{"item": 0, "status": "done", "id": "...", '
+            responses={**NOT_FOUND, 200: {"content": {NDJSON: {"example": '{"item": 0, "status": "done", "id": "...", '
                                                              '"verdict": {"code": "consistent_with_trend"}}'}}}})
-async def batch_results(batch_id: str, follow: bool = Query(True, description="Wait for unfinished items"),
+async def batch_results(batch_id: str = BATCH_ID, follow: bool = Query(True, description="Wait for unfinished items"),
                         runtime: Runtime = Depends(get_runtime)) -> StreamingResponse:
     """One line per finished item: its audit's id, links, verdict and key numbers, or an RFC 9457 problem."""
     await run_in_threadpool(runtime.batches.counts, batch_id)  # 404 before the stream starts
@@ -69,22 +76,23 @@ async def batch_results(batch_id: str, follow: bool = Query(True, description="W
 
 
 @router.post("/api/v1/batches/{batch_id}/cancel", summary="Cancel the items not yet started (owner token)",
-             dependencies=[Depends(require_api_key)])
-async def cancel_batch(batch_id: str, x_owner_token: str | None = Header(None),
+             dependencies=[Depends(require_api_key)], responses=OWNER)
+async def cancel_batch(batch_id: str = BATCH_ID, x_owner_token: str | None = OWNER_TOKEN,
                        runtime: Runtime = Depends(get_runtime)) -> dict:
     return await run_in_threadpool(batches.cancel, runtime, batch_id, x_owner_token)
 
 
 @router.delete("/api/v1/batches/{batch_id}", status_code=204, dependencies=[Depends(require_api_key)],
-               summary="Delete a batch and the audits it stored (owner token)")
-async def delete_batch(batch_id: str, x_owner_token: str | None = Header(None),
+               summary="Delete a batch and the audits it stored (owner token)", responses=OWNER)
+async def delete_batch(batch_id: str = BATCH_ID, x_owner_token: str | None = OWNER_TOKEN,
                        runtime: Runtime = Depends(get_runtime)) -> Response:
     await run_in_threadpool(batches.delete, runtime, batch_id, x_owner_token)
     return Response(status_code=204)
 
 
-@router.get("/api/v1/jobs/{job_id}", summary="One job: its status, and its audit or problem when finished")
-async def get_job(job_id: str, runtime: Runtime = Depends(get_runtime)) -> dict:
+@router.get("/api/v1/jobs/{job_id}", summary="One job: its status, and its audit or problem when finished",
+            responses=NOT_FOUND)
+async def get_job(job_id: str = JOB_ID, runtime: Runtime = Depends(get_runtime)) -> dict:
     return await run_in_threadpool(batches.job_status, runtime, job_id)
 
 
