@@ -68,9 +68,9 @@ def accept(runtime: Runtime, requests: list[dict[str, Any]], who: str, *, intera
             fix="Wait for your earlier batches to finish, or send fewer items")
     priorities = [INTERACTIVE if interactive else BATCH - (in_flight + position) // FAIR_SHARE_ITEMS
                   for position in range(len(requests))]
-    batch_id, item_ids, owner_token = runtime.batches.create(requests, requester=who, priorities=priorities)
-    for priority in sorted(set(priorities), reverse=True):
-        runtime.jobs.enqueue([i for i, p in zip(item_ids, priorities) if p == priority], priority)
+    batch_id, item_ids, owner_token = runtime.batches.create(requests, requester=who, priorities=priorities,
+                                                             enqueue=runtime.jobs.enqueue)
+    runtime.jobs.wake()
     return Accepted(batch_id, item_ids, owner_token)
 
 

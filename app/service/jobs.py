@@ -126,8 +126,11 @@ class LocalJobs:
         self._thread = threading.Thread(target=self._loop, name="trendaudit-batch-dispatch", daemon=True)
         self._thread.start()
 
-    def enqueue(self, item_ids: list[str], priority: int) -> None:
-        self._wake.set()  # the items are in the store already; this only saves a poll
+    def enqueue(self, connection, item_ids: list[str], priorities: list[int]) -> None:
+        """Nothing to add: the kept items are this queue."""
+
+    def wake(self) -> None:
+        self._wake.set()  # new items are kept: look now rather than at the next poll
 
     def _loop(self) -> None:
         renewed = time.monotonic()
@@ -215,20 +218,26 @@ def ensure_queue(engine, settings: Settings) -> None:
 
 
 class QueuedJobs:
-    """PostgreSQL: the web process only enqueues; workers run the items."""
+    """PostgreSQL: the web process only enqueues, in the transaction that keeps the items; workers run them."""
 
     def __init__(self, engine, settings: Settings) -> None:
         ensure_queue(engine, settings)
         self.app = queue_app(settings, worker=False)
-        self.app.open()
 
-    def enqueue(self, item_ids: list[str], priority: int) -> None:
+    def enqueue(self, connection, item_ids: list[str], priorities: list[int]) -> None:
+        """One job per item, deferred on the store's own connection (``connection``, psycopg's, in its open
+        transaction): the items and their jobs are committed together."""
         task = self.app.tasks[TASK]
-        for start in range(0, len(item_ids), 1_000):
-            task.configure(priority=priority).batch_defer(*({"item_id": i} for i in item_ids[start:start + 1_000]))
+        jobs = [task.configure(priority=priority).make_new_job(item_id=item_id)
+                for item_id, priority in zip(item_ids, priorities)]
+        for start in range(0, len(jobs), 1_000):
+            self.app.job_manager.batch_defer_jobs(jobs[start:start + 1_000], connection=connection)
+
+    def wake(self) -> None:
+        """Workers hear of new jobs from the database itself (LISTEN/NOTIFY)."""
 
     def close(self) -> None:
-        self.app.close()
+        """Nothing held: jobs are deferred on the store's connections."""
 
 
 def start_jobs(engine, audits: AuditRepository, batches: BatchRepository, pool: ComputePool, settings: Settings,

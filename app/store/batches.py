@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import hmac
 import secrets
+from collections.abc import Callable
 from dataclasses import dataclass
 from datetime import datetime, timedelta, timezone
 from typing import Any
@@ -88,10 +89,11 @@ class BatchRepository:
         return self.engine.connect().execution_options(**write_options(self.engine))
 
     @store_faults
-    def create(self, requests: list[dict[str, Any]], *, requester: str, priorities: list[int]
-               ) -> tuple[str, list[str], str]:
+    def create(self, requests: list[dict[str, Any]], *, requester: str, priorities: list[int],
+               enqueue: Callable[[Any, list[str], list[int]], None] | None = None) -> tuple[str, list[str], str]:
         """Keeps a batch and all its items (each with its priority) in one transaction: (batch id, item ids in
-        order, owner token)."""
+        order, owner token). ``enqueue`` is called with the driver's connection inside that transaction (a job
+        queue in the same database puts its jobs in with the items, or neither is kept)."""
         owner_token = secrets.token_urlsafe(OWNER_TOKEN_BYTES)
         batch_id, now = new_audit_id(), _now()
         item_ids = [new_audit_id() for _ in requests]
@@ -103,6 +105,8 @@ class BatchRepository:
                 {"id": item_id, "batch_id": batch_id, "position": position, "priority": priority,
                  "request": request, "status": QUEUED, "attempts": 0}
                 for position, (item_id, request, priority) in enumerate(zip(item_ids, requests, priorities))])
+            if enqueue is not None:
+                enqueue(connection.connection.dbapi_connection, item_ids, priorities)
         return batch_id, item_ids, owner_token
 
     @store_faults
