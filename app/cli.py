@@ -243,6 +243,8 @@ def _local_lines(items: list[dict[str, Any]]):
 
 
 def _server_lines(items: list[dict[str, Any]], server: str, key: str | None):
+    """Submits the batch and yields each item's line once, following the results (and asking again should a
+    stream end before the batch does)."""
     import httpx
 
     headers = {"Authorization": f"Bearer {key}"} if key else {}
@@ -251,12 +253,18 @@ def _server_lines(items: list[dict[str, Any]], server: str, key: str | None):
         if answer.status_code != 202:
             raise InputError(f"the server refused the batch ({answer.status_code}): "
                              f"{answer.json().get('detail', answer.text[:300])}")
-        batch_id = answer.json()["id"]
-        print(f"batch {batch_id}: {len(items)} items queued", file=sys.stderr)
-        with client.stream("GET", f"/api/v1/batches/{batch_id}/results", timeout=None) as stream:
-            for line in stream.iter_lines():
-                if line.strip():
-                    yield json.loads(line)
+        location = answer.headers["location"]
+        print(f"batch {answer.json()['id']}: {len(items)} items queued", file=sys.stderr)
+        seen: set[int] = set()
+        while len(seen) < len(items):
+            with client.stream("GET", f"{location}/results", timeout=None) as stream:
+                for line in stream.iter_lines():
+                    found = json.loads(line) if line.strip() else None
+                    if found is not None and found["item"] not in seen:
+                        seen.add(found["item"])
+                        yield found
+            if client.get(location).json()["finished"] and len(seen) < len(items):
+                raise InputError(f"the batch finished with {len(items) - len(seen)} items unaccounted for")
 
 
 def _csv_row(line: dict[str, Any]) -> list[Any]:

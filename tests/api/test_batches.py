@@ -246,3 +246,33 @@ def test_postgres_worker_killed_mid_batch(postgres_url, tmp_path):
             worker.stop()
         server.stop()
     check_exactly_once_and_equal_to_single(postgres_url, items, lines)
+
+
+def test_the_command_line_runs_a_csv_batch_here_and_refuses_a_broken_json_lines_file(tmp_path):
+    from app.cli import BATCH_CSV_COLUMNS, main
+
+    item = invented_items(1)[0]
+    rows = ["year,a,b"] + [f"{t},{v},{round(v * 2, 4)}" for t, v in zip(item["series"]["time"],
+                                                                        item["series"]["value"])]
+    (tmp_path / "two.csv").write_text("\n".join(rows) + "\n")
+    out = tmp_path / "results.csv"
+    assert main(["batch", str(tmp_path / "two.csv"), "--start", "2008", "--end", "2019", "--simulations", "100",
+                 "--out", str(out)]) == 0
+    lines = out.read_text().splitlines()
+    assert lines[0].split(",") == list(BATCH_CSV_COLUMNS) and len(lines) == 3
+    assert {line.split(",")[1] for line in lines[1:]} == {"done"}
+    (tmp_path / "broken.jsonl").write_text(json.dumps(item) + "\n{not json\n")
+    assert main(["batch", str(tmp_path / "broken.jsonl")]) == 2
+
+
+def test_the_command_line_submits_to_a_server_and_writes_every_result(client, tmp_path, monkeypatch, capsys):
+    from app.cli import main
+
+    items = invented_items(3) + [{**invented_items(1)[0], "claim": {"start": 2030, "end": 2040}}]
+    (tmp_path / "four.jsonl").write_text("".join(json.dumps(item) + "\n" for item in items))
+    # the command's HTTP client, pointed at this test's app instead of a network address
+    monkeypatch.setattr(httpx, "Client", lambda base_url, headers, timeout: client)
+    assert main(["batch", str(tmp_path / "four.jsonl"), "--server", "http://testserver"]) == 0
+    lines = [json.loads(line) for line in capsys.readouterr().out.splitlines()]
+    assert sorted(line["item"] for line in lines) == [0, 1, 2, 3]
+    assert [line["status"] for line in sorted(lines, key=lambda line: line["item"])] == ["done"] * 3 + ["failed"]
