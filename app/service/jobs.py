@@ -19,6 +19,7 @@ from __future__ import annotations
 import asyncio
 import logging
 import secrets
+import socket
 import threading
 import time
 from collections.abc import Callable
@@ -263,6 +264,10 @@ async def retry_stalled(app, settings: Settings) -> None:
             log.exception("looking for stalled jobs failed; trying again")
 
 
+def worker_name() -> str:
+    return f"worker-{socket.gethostname()[:40]}-{os.getpid()}"
+
+
 def run_worker(settings: Settings, read_item: ItemReader, concurrency: int) -> None:
     """``trendaudit worker``: runs queued items until stopped (SIGINT or SIGTERM finish the running ones)."""
     from app.service.startup import open_store
@@ -271,7 +276,8 @@ def run_worker(settings: Settings, read_item: ItemReader, concurrency: int) -> N
     if is_sqlite(engine):
         raise TrendAuditError("workers need PostgreSQL; with SQLite the web process runs batch items itself")
     ensure_queue(engine, settings)
-    runner = ItemRunner(AuditRepository(engine), BatchRepository(engine), settings, read_item)
+    runner = ItemRunner(AuditRepository(engine), BatchRepository(engine), settings, read_item,
+                        claimed_by=worker_name())  # kept with each item it runs, for operators
     app = queue_app(settings, worker=True, run=runner.run)
 
     async def main() -> None:

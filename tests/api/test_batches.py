@@ -226,6 +226,16 @@ class Worker:
         self._log.close()
 
 
+def running_on(database_url: str, pid: int) -> bool:
+    engine = sa.create_engine(database_url)
+    try:
+        with engine.connect() as connection:
+            return bool(connection.execute(sa.text("SELECT COUNT(*) FROM batch_items WHERE status = 'running' "
+                                                   "AND claimed_by LIKE :who"), {"who": f"%-{pid}"}).scalar_one())
+    finally:
+        engine.dispose()
+
+
 @pytest.mark.slow
 @pytest.mark.postgres
 def test_postgres_worker_killed_mid_batch(postgres_url, tmp_path):
@@ -238,6 +248,8 @@ def test_postgres_worker_killed_mid_batch(postgres_url, tmp_path):
         assert status(server.url, batch_id)["counts"]["queued"] == 200
         workers = [Worker(postgres_url, tmp_path / f"worker{n}.log", **settings) for n in (1, 2)]
         wait_for(lambda: status(server.url, batch_id)["counts"]["done"] >= 30, what="30 items done")
+        # killed while it runs an item (the item it was running is then retried by the other worker)
+        wait_for(lambda: running_on(postgres_url, workers[0].process.pid), what="the first worker running an item")
         workers[0].kill()
         wait_for(lambda: status(server.url, batch_id)["finished"], what="the batch to finish with one worker")
         lines = results(server.url, batch_id)
