@@ -82,6 +82,23 @@ def _parser() -> argparse.ArgumentParser:
                             "default), remove, keep")
     _shared_options(audit)
 
+    worker = commands.add_parser("worker", help="run queued batch items (PostgreSQL; any number of machines)")
+    worker.add_argument("--concurrency", type=int, default=None,
+                        help="items run at once (default TRENDAUDIT_WORKER_CONCURRENCY, else 1; one per core)")
+
+    batch = commands.add_parser("batch", help="audit many series or claims: on a server, or here on every core")
+    batch.add_argument("file", type=Path, help="JSON lines (one audit request per line, as POST /api/v1/audits "
+                       "takes it) or CSV (a time column, then one column per series, audited for --start/--end)")
+    batch.add_argument("--server", help="the service's address; without it the batch runs here on all cores")
+    batch.add_argument("--key", default=os.environ.get("TRENDAUDIT_KEY"), help="API key (default $TRENDAUDIT_KEY)")
+    batch.add_argument("--out", type=Path, help="where the results go (default standard output)")
+    batch.add_argument("--format", choices=("ndjson", "csv"), help="results as JSON lines or CSV (default: by "
+                       "--out's extension, else ndjson)")
+    batch.add_argument("--start", help="CSV input: start of the claimed window")
+    batch.add_argument("--end", help="CSV input: end of the claimed window")
+    batch.add_argument("--kind", choices=CLAIM_KINDS, default="pause", help="CSV input: what the claim says")
+    batch.add_argument("--simulations", type=int, help="CSV input: Monte Carlo simulations per test")
+
     correlate = commands.add_parser("correlate", help="audit a driver-response pair of columns of a CSV file")
     correlate.add_argument("file", type=Path, help="CSV with a time column and the two value columns")
     correlate.add_argument("--driver", required=True, help="the column thought to move the other (e.g. co2)")
@@ -102,6 +119,10 @@ def main(argv: Sequence[str] | None = None) -> int:
         return serve(args.host, args.port, args.workers)
     if args.command == "correlate":
         return correlate(args)
+    if args.command == "worker":
+        return worker(args.concurrency)
+    if args.command == "batch":
+        return batch(args)
     return audit(args)
 
 
@@ -136,6 +157,157 @@ def serve(host: str | None, port: int | None, workers: int) -> int:
 
 
 BLAS_THREAD_VARIABLES = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")
+
+
+def worker(concurrency: int | None) -> int:
+    for variable in BLAS_THREAD_VARIABLES:  # one BLAS thread per audit, as for the web service
+        os.environ.setdefault(variable, "1")
+    from app.api.audits import job_from_item
+    from app.errors import TrendAuditError
+    from app.service.jobs import run_worker
+    from app.service.startup import StartupRefused
+    from app.settings import Settings
+
+    settings = Settings()
+    logging.basicConfig(level=logging.INFO, format="%(levelname)s: %(message)s")
+    try:
+        run_worker(settings, job_from_item, concurrency or settings.worker_concurrency)
+    except (StartupRefused, TrendAuditError) as refusal:
+        print(f"trendaudit: {refusal}", file=sys.stderr)
+        return 2
+    return 0
+
+
+BATCH_CSV_COLUMNS = ("item", "status", "id", "verdict", "headline", "seed", "window_slope", "window_p_value",
+                     "long_term_slope", "change_p_value", "spell_probability", "years_to_detect", "problem")
+
+
+def batch_items(args: argparse.Namespace, data: bytes) -> list[dict[str, Any]]:
+    """The audit requests a batch file holds: one JSON object per line, or a CSV's series under one claim."""
+    import csv
+    import io
+
+    from app.errors import Location
+
+    text = data.decode("utf-8-sig")
+    if args.file.suffix.lower() != ".csv":
+        items = []
+        for number, line in enumerate(text.splitlines(), 1):
+            if line.strip():
+                try:
+                    items.append(json.loads(line))
+                except json.JSONDecodeError as error:
+                    raise InputError(f"line {number} is not JSON: {error.msg}", location=Location(row=number),
+                                     fix="Write one audit request, as a JSON object, per line") from None
+        return items
+    if args.start is None or args.end is None:
+        raise InputError("a CSV batch needs the claim's window", location=Location(field="claim.start"),
+                         fix="Give --start and --end")
+    rows = list(csv.reader(io.StringIO(text)))
+    if len(rows) < 2 or len(rows[0]) < 2:
+        raise InputError("the CSV needs a header row, a time column and at least one series column",
+                         location=Location(row=1), fix="Put the times first, then one column per series")
+    header, body = rows[0], rows[1:]
+    claim = {"start": args.start, "end": args.end, "kind": args.kind}
+    options = {"simulations": args.simulations} if args.simulations else {}
+    return [{"series": {"time": [row[0] for row in body], "value": [row[c] if c < len(row) else None for row in body],
+                        "label": header[c]}, "claim": claim, "options": options}
+            for c in range(1, len(header))]
+
+
+def local_result(position: int, item: dict[str, Any]) -> dict[str, Any]:
+    """One item audited here (a process of the pool): its verdict and key numbers, or its problem."""
+    from app.api.audits import job_from_item
+    from app.errors import TrendAuditError, problem_for_error
+    from app.service.audits import compute_document
+    from app.service.batches import key_numbers
+    from app.settings import Settings
+
+    try:
+        document = compute_document(job_from_item(item, Settings()))
+    except (TrendAuditError, ValueError) as error:
+        error = error if isinstance(error, TrendAuditError) else InputError(str(error).splitlines()[0])
+        return {"item": position, "status": "failed", "problem": problem_for_error(error)[1]}
+    verdict = document["verdict"]
+    return {"item": position, "status": "done", "verdict": {"code": verdict["code"], "headline": verdict["headline"]},
+            "numbers": key_numbers(document)}
+
+
+def _local_lines(items: list[dict[str, Any]]):
+    from concurrent.futures import ProcessPoolExecutor, as_completed
+
+    with ProcessPoolExecutor(max_workers=os.cpu_count() or 1) as pool:
+        futures = [pool.submit(local_result, position, item) for position, item in enumerate(items)]
+        for future in as_completed(futures):
+            yield future.result()
+
+
+def _server_lines(items: list[dict[str, Any]], server: str, key: str | None):
+    """Submits the batch and yields each item's line once, following the results (and asking again should a
+    stream end before the batch does)."""
+    import httpx
+
+    headers = {"Authorization": f"Bearer {key}"} if key else {}
+    with httpx.Client(base_url=server.rstrip("/"), headers=headers, timeout=60) as client:
+        answer = client.post("/api/v1/batches", json={"items": items})
+        if answer.status_code != 202:
+            raise InputError(f"the server refused the batch ({answer.status_code}): "
+                             f"{answer.json().get('detail', answer.text[:300])}")
+        location = answer.headers["location"]
+        print(f"batch {answer.json()['id']}: {len(items)} items queued", file=sys.stderr)
+        seen: set[int] = set()
+        while len(seen) < len(items):
+            with client.stream("GET", f"{location}/results", timeout=None) as stream:
+                for line in stream.iter_lines():
+                    found = json.loads(line) if line.strip() else None
+                    if found is not None and found["item"] not in seen:
+                        seen.add(found["item"])
+                        yield found
+            if client.get(location).json()["finished"] and len(seen) < len(items):
+                raise InputError(f"the batch finished with {len(items) - len(seen)} items unaccounted for")
+
+
+def _csv_row(line: dict[str, Any]) -> list[Any]:
+    numbers, verdict = line.get("numbers") or {}, line.get("verdict") or {}
+    values = {"item": line["item"], "status": line["status"], "id": line.get("id", ""),
+              "verdict": verdict.get("code", ""), "headline": verdict.get("headline", ""), **numbers,
+              "problem": (line.get("problem") or {}).get("detail", "")}
+    return ["" if values.get(name) is None else values.get(name) for name in BATCH_CSV_COLUMNS]
+
+
+def batch(args: argparse.Namespace) -> int:
+    import csv
+
+    data = _read(args.file)
+    if data is None:
+        return EXIT_INPUT_ERROR
+    try:
+        items = batch_items(args, data)
+    except InputError as error:
+        return _refuse(args.file, error)
+    form = args.format or ("csv" if args.out and args.out.suffix.lower() == ".csv" else "ndjson")
+    out = open(args.out, "w", newline="", encoding="utf-8") if args.out else sys.stdout
+    writer = csv.writer(out) if form == "csv" else None
+    if writer:
+        writer.writerow(BATCH_CSV_COLUMNS)
+    counts = {"done": 0, "failed": 0, "cancelled": 0}
+    try:
+        lines = _server_lines(items, args.server, args.key) if args.server else _local_lines(items)
+        for line in lines:
+            counts[line["status"]] = counts.get(line["status"], 0) + 1
+            if writer:
+                writer.writerow(_csv_row(line))
+            else:
+                out.write(json.dumps(line, separators=(",", ":")) + "\n")
+            print(f"\r{sum(counts.values())}/{len(items)} finished, {counts['failed']} failed", end="",
+                  file=sys.stderr, flush=True)
+        print(file=sys.stderr)
+    except InputError as error:
+        return _refuse(args.file, error)
+    finally:
+        if args.out:
+            out.close()
+    return 0
 
 
 def _read(path: Path) -> bytes | None:

@@ -11,6 +11,7 @@
     ├── NotFound                    no audit or sample with that name (404)
     └── RetryLater                  try the same request again after Retry-After seconds
         ├── TooManyAttempts         too many wrong keys from one client (429)
+        │   └── TooMuchInFlight     a key's queued batch items are at their limit (429)
         └── ServiceBusy             the compute pool is full (503)
             └── StoreUnavailable    the database cannot be reached, is read-only or full (503)
 
@@ -140,6 +141,42 @@ class StoreUnavailable(ServiceBusy):
 class TooManyAttempts(RetryLater):
     title = "Too many attempts"
     slug = "too-many-attempts"
+
+
+PROBLEM_TYPE_BASE = "/problems/"
+
+
+def problem_body(*, status: int, title: str, detail: str, slug: str, instance: str | None = None,
+                 **extra: Any) -> dict[str, Any]:
+    body: dict[str, Any] = {
+        "type": PROBLEM_TYPE_BASE + slug,
+        "title": title,
+        "status": status,
+        "detail": detail,
+    }
+    if instance:
+        body["instance"] = instance
+    body.update({k: v for k, v in extra.items() if v is not None})
+    return body
+
+
+def problem_for_error(error: TrendAuditError, instance: str | None = None) -> tuple[int, dict[str, Any]]:
+    """The RFC 9457 problem document for ``error`` and its status: the one mapping, used by every answer and
+    by a batch item that failed (its document is stored)."""
+    status = status_for(error)
+    extra: dict[str, Any] = dict(error.extra)
+    where = error.location.as_dict()
+    if where:
+        extra["where"] = where
+    if error.fix:
+        extra["fix"] = error.fix
+    return status, problem_body(status=status, title=error.title, detail=error.detail, slug=error.slug,
+                                instance=instance, **extra)
+
+
+class TooMuchInFlight(TooManyAttempts):
+    title = "Too many items in flight"
+    slug = "too-much-in-flight"
 
 
 def retry_after(error: TrendAuditError) -> int | None:

@@ -9,13 +9,15 @@ from fastapi import FastAPI
 from fastapi.openapi.utils import get_openapi
 
 from app import __version__
-from app.api import audits, claims, comparisons, correlations, docs, revisions, samples, trend
+from app.api import audits, batches, claims, comparisons, correlations, docs, revisions, samples, trend
 from app.api.body_size import BodySizeLimit
 from app.api.openapi_problems import document_problems
 from app.api.problems import install_problem_handlers
+from app.api.batch_schemas import BatchRequest
 from app.api.history_schemas import ComparisonRequest, RevisionRequest
 from app.api.schemas import AuditRequest, CorrelationRequest, MultipartAuditForm
 from app.security import install_security_headers
+from app.service.batches import BATCHES_PATH
 from app.service.runtime import RuntimeHolder
 from app.settings import Settings
 from app.web import routers as desk_routers
@@ -23,7 +25,7 @@ from app.web.same_origin import SameOriginForms
 from app.web.too_large import too_large_page
 
 # Bodies read by hand (JSON or multipart on one path) are described here so /docs can show them.
-HAND_READ_BODIES = (AuditRequest, MultipartAuditForm, CorrelationRequest, RevisionRequest, ComparisonRequest)
+HAND_READ_BODIES = (BatchRequest, AuditRequest, MultipartAuditForm, CorrelationRequest, RevisionRequest, ComparisonRequest)
 
 
 def _openapi_with(application: FastAPI, models) -> dict:
@@ -42,7 +44,7 @@ def _openapi_with(application: FastAPI, models) -> dict:
 
 def create_app(settings: Settings | None = None) -> FastAPI:
     settings = settings or Settings()
-    runtime = RuntimeHolder(settings)
+    runtime = RuntimeHolder(settings, read_item=audits.job_from_item)
 
     @asynccontextmanager
     async def lifespan(_application: FastAPI):
@@ -68,10 +70,11 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     install_security_headers(application)  # outside everything, so errors of every kind carry the headers
     for router in desk_routers:  # the browser desk: HTML pages, their assets, chart downloads
         application.include_router(router)
-    application.add_middleware(BodySizeLimit, max_bytes=settings.max_upload_bytes, html_refusal=too_large_page)
+    application.add_middleware(BodySizeLimit, max_bytes=settings.max_upload_bytes, html_refusal=too_large_page,
+                               larger={BATCHES_PATH: settings.max_batch_bytes})
     application.add_middleware(SameOriginForms, public_base_url=settings.public_base_url)  # before any body is read
     for router in (audits.router, revisions.router, comparisons.router, correlations.router, claims.router,
-                   samples.router, trend.router, docs.router):
+                   samples.router, trend.router, batches.router, docs.router):
         application.include_router(router)
     application.openapi = lambda: _openapi_with(application, HAND_READ_BODIES)
 

@@ -79,6 +79,21 @@ class Settings(BaseSettings):
     draw_charts_ahead: bool = True
     chart_queue: int = 1_000  # record ids only: the drawer reads each record when its turn comes
 
+    # Batches (POST /api/v1/batches) and durable jobs. Every accepted item is kept in the store before the 202.
+    max_batch_items: int = 5_000
+    max_batch_bytes: int = 50 * 1024 * 1024  # a batch's body; every other body keeps max_upload_bytes
+    # Items queued or running at once for one API key (or, with no keys, one client): past it a batch is 429.
+    max_items_in_flight_per_key: int = 10_000
+    # SQLite: threads of the web process that run batch items, each only while an interactive audit would still
+    # start at once. PostgreSQL: web processes only enqueue; `trendaudit worker` processes run the items.
+    batch_workers: int = 1
+    job_attempts: int = 3  # runs of an item that fails unexpectedly (a crash, a store fault) before it is failed
+    job_lease_seconds: float = 30.0  # SQLite: an item a dead process held is taken up again after this
+    worker_concurrency: int = 1  # items one `trendaudit worker` runs at once (one per core is the rule)
+    worker_heartbeat_seconds: float = 10.0  # how often a worker says it is alive
+    worker_stalled_seconds: float = 30.0  # a worker silent this long is dead: its running items are retried
+    results_follow_seconds: float = 600.0  # longest a results stream waits for unfinished items
+
     samples_dir: Path = PROJECT_ROOT / "sample_series"
 
     # Data fetched from a link the user gives (app.ingest.fetch): https only unless http is allowed; loopback

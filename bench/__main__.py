@@ -18,7 +18,7 @@ from pathlib import Path
 from bench.figures import Figure
 from bench.machine import describe
 
-SUITES = ("audit", "montecarlo", "segmentation", "noise", "report", "memory", "http", "timeline")
+SUITES = ("audit", "montecarlo", "segmentation", "noise", "report", "memory", "http", "timeline", "batch")
 HERE = Path(__file__).resolve().parent
 RESULTS = HERE / "results" / "latest.json"
 READMES = (HERE / "README.md", HERE.parent / "README.md")  # the bench's own and the project's

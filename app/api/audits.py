@@ -7,6 +7,7 @@ from fastapi.concurrency import run_in_threadpool
 from fastapi.responses import JSONResponse
 from starlette.datastructures import UploadFile
 
+from app.api.batches import accept_one, wants_async
 from app.api.bodies import is_json, media_type, validated
 from app.api.deps import require_api_key
 from app.api.records import Resource, add_record_routes
@@ -55,14 +56,33 @@ async def job_from_request(request: Request, settings: Settings) -> AuditJob:
 
 
 def _job_from_json_bytes(raw: bytes, settings: Settings) -> AuditJob:
-    request = validated(AuditRequest, raw)
+    return _job_from_request(validated(AuditRequest, raw), settings)
+
+
+def _job_from_request(request: AuditRequest, settings: Settings) -> AuditJob:
     return with_made_on(job_from_json(request, settings), request.claim.made_on)
+
+
+def job_from_item(item: dict, settings: Settings) -> AuditJob:
+    """A batch item (kept as its audit request) read as this route reads a JSON body: how jobs read items."""
+    return _job_from_request(AuditRequest.model_validate(item), settings)
+
+
+def _checked_item(raw: bytes, settings: Settings) -> dict:
+    """An audit asked for asynchronously: checked now as far as it can be without computing (422 at once)."""
+    request = validated(AuditRequest, raw)
+    _job_from_request(request, settings)
+    return request.model_dump(mode="json", exclude_unset=True)
 
 
 @router.post(
     "", status_code=201, summary="Audit a claim about a series, and store the audit",
     dependencies=[Depends(require_api_key)], openapi_extra={"requestBody": CREATE_BODY},
-    responses={201: {"model": AuditOut, "description": "Stored; Location points at the API resource",
+    responses={202: {"description": "With 'Prefer: respond-async' (JSON): queued as a job, ahead of any batch; "
+                                    "Location is the job (GET /api/v1/jobs/{id})",
+                     "headers": {"Location": {"schema": {"type": "string"}, "description": "/api/v1/jobs/{id}"},
+                                 "Preference-Applied": {"schema": {"type": "string"}}}},
+               201: {"model": AuditOut, "description": "Stored; Location points at the API resource",
                      "headers": {"Location": {"schema": {"type": "string"},
                                               "description": "/api/v1/audits/{id}"}}},
                413: {"description": "Body over the upload limit (refused before reading)"},
@@ -72,7 +92,12 @@ def _job_from_json_bytes(raw: bytes, settings: Settings) -> AuditJob:
 )
 async def create_audit(request: Request, runtime: Runtime = Depends(get_runtime)) -> JSONResponse:
     """Send JSON (`AuditRequest`) or a multipart form with a CSV in `file`. The answer holds
-    `owner_token` once: keep it to delete the audit. The audit is stored before the answer is sent."""
+    `owner_token` once: keep it to delete the audit. The audit is stored before the answer is sent; with
+    `Prefer: respond-async` (RFC 7240, JSON bodies) it is queued as a job instead, ahead of any batch, and the
+    answer is 202 with the job's link in Location."""
+    if wants_async(request) and is_json(media_type(request)):
+        item = await run_in_threadpool(_checked_item, await request.body(), runtime.settings)
+        return await accept_one(request, runtime, item)
     job = await job_from_request(request, runtime.settings)
     record, owner_token, _document = await create_record(runtime, AUDITS, job)
     body = record_body(AUDITS, record, runtime.settings, owner_token=owner_token)

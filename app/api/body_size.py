@@ -28,9 +28,10 @@ class BodySizeLimit:
     tries to answer is replaced by the 413.
     """
 
-    def __init__(self, app, max_bytes: int, html_refusal=None) -> None:
+    def __init__(self, app, max_bytes: int, html_refusal=None, larger: dict[str, int] | None = None) -> None:
         self.app = app
         self.max_bytes = max_bytes
+        self.larger = larger or {}  # exact paths allowed a larger body (a batch of many audits)
         # The desk supplies a page for browsers; API clients (and anyone not asking for HTML) get the problem.
         self.html_refusal = html_refusal
 
@@ -42,9 +43,10 @@ class BodySizeLimit:
         if coding is not None and coding.strip().lower() not in PLAIN_CODINGS:
             await self._refuse(scope, send, encoded_body(coding))
             return
+        limit = self.larger.get(scope.get("path", ""), self.max_bytes)
         declared = _content_length(scope["headers"])
-        if declared is not None and declared > self.max_bytes:
-            await self._refuse(scope, send)
+        if declared is not None and declared > limit:
+            await self._refuse(scope, send, limit=limit)
             return
 
         seen = 0
@@ -56,7 +58,7 @@ class BodySizeLimit:
             message = await receive()
             if message["type"] == "http.request":
                 seen += len(message.get("body", b""))
-                if seen > self.max_bytes:
+                if seen > limit:
                     exceeded = True
                     raise _TooLarge()
             return message
@@ -76,10 +78,10 @@ class BodySizeLimit:
             if not exceeded:
                 raise
         if exceeded and not started:
-            await self._refuse(scope, send)
+            await self._refuse(scope, send, limit=limit)
 
-    async def _refuse(self, scope, send, error=None) -> None:
-        error = error or body_too_large(self.max_bytes)
+    async def _refuse(self, scope, send, error=None, limit: int | None = None) -> None:
+        error = error or body_too_large(limit or self.max_bytes)
         as_page = self.html_refusal is not None and getattr(error, "body_too_large", False)
         response = self.html_refusal(scope, error) if as_page else None
         if response is None:

@@ -10,37 +10,10 @@ from fastapi.exceptions import RequestValidationError
 from fastapi.responses import JSONResponse
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
-from app.errors import TrendAuditError, retry_after, status_for
+from app.errors import PROBLEM_TYPE_BASE, TrendAuditError, problem_body, problem_for_error, retry_after, status_for  # noqa: F401
 
-PROBLEM_TYPE_BASE = "/problems/"
 PROBLEM_MEDIA_TYPE = "application/problem+json"
 log = logging.getLogger("trendaudit.api")
-
-
-def problem_body(*, status: int, title: str, detail: str, slug: str, instance: str | None = None,
-                 **extra: Any) -> dict[str, Any]:
-    body: dict[str, Any] = {
-        "type": PROBLEM_TYPE_BASE + slug,
-        "title": title,
-        "status": status,
-        "detail": detail,
-    }
-    if instance:
-        body["instance"] = instance
-    body.update({k: v for k, v in extra.items() if v is not None})
-    return body
-
-
-def problem_for_error(error: TrendAuditError, instance: str | None = None) -> tuple[int, dict[str, Any]]:
-    status = status_for(error)
-    extra: dict[str, Any] = dict(error.extra)
-    where = error.location.as_dict()
-    if where:
-        extra["where"] = where
-    if error.fix:
-        extra["fix"] = error.fix
-    return status, problem_body(status=status, title=error.title, detail=error.detail, slug=error.slug,
-                                instance=instance, **extra)
 
 
 def problem_response(status: int, body: dict[str, Any], headers: dict[str, str] | None = None) -> JSONResponse:

@@ -256,7 +256,10 @@ def compute_document(job: AuditJob) -> dict[str, Any]:
     return {**document, "claim": {**document["claim"], **job.record.as_dict(), "window": job.window}}
 
 
-def store_audit(audits: AuditRepository, job: AuditJob, document: dict[str, Any]) -> tuple[AuditRecord, str]:
+def store_audit(audits: AuditRepository, job: AuditJob, document: dict[str, Any], *, job_key: str | None = None,
+                owner_token_sha256: str | None = None) -> tuple[AuditRecord, str]:
+    """Stores the audit; a batch item's (``job_key``, unique) is stored once however often its job runs, and is
+    owned by its batch's owner token."""
     seed = document.get("seed")
     input_document = {**job.input_document, "options": {**job.input_document["options"], "seed": seed}}
     verdict = document.get("verdict") or {}
@@ -266,7 +269,8 @@ def store_audit(audits: AuditRepository, job: AuditJob, document: dict[str, Any]
     return audits.create(NewAudit(search_text=search_text(job.title, job.record),
         title=job.title, input_document=input_document, result_document=document,
         input_sha256=(document.get("inputs") or {}).get("sha256") or job.series.sha256(), seed=seed,
-        software_version=document.get("software_version") or __version__, summary=summary, kind=AUDIT))
+        software_version=document.get("software_version") or __version__, summary=summary, kind=AUDIT,
+        job_key=job_key, owner_token_sha256=owner_token_sha256))
 
 
 def rename_fields(error: InputError, names: dict[str, str],

@@ -33,6 +33,7 @@ class ComputePool:
         if workers < 1 or queue < 0:
             raise ValueError("the compute pool needs at least one worker and a queue of zero or more")
         self.capacity = workers + queue
+        self.workers = workers
         self.timeout_seconds = timeout_seconds
         self._executor = ThreadPoolExecutor(max_workers=workers, thread_name_prefix="trendaudit-compute")
         self._slots = threading.BoundedSemaphore(self.capacity)
@@ -51,6 +52,10 @@ class ComputePool:
         """Waits up to ``timeout`` seconds for a moment with no task running or waiting; True if there is one.
         Background work (drawing charts ahead) asks this first, so it never slows an audit someone waits for."""
         return self._idle.wait(timeout)
+
+    def has_room(self) -> bool:
+        """Whether a task would start at once: queued batch items start only then, behind people's audits."""
+        return self._in_use < self.workers
 
     def _take(self) -> bool:
         if not self._slots.acquire(blocking=False):

@@ -21,7 +21,8 @@ from app.service.guessing import ClientAllowance, KeyGuessing
 from app.service.pool import ComputePool
 from app.service.startup import check_keys, open_store
 from app.settings import Settings
-from app.store import AuditRepository, ChartRepository
+from app.service.jobs import ItemReader, start_jobs
+from app.store import AuditRepository, BatchRepository, ChartRepository
 
 log = logging.getLogger("trendaudit")
 
@@ -36,6 +37,8 @@ class Runtime:
     drawer: ChartDrawer
     guessing: KeyGuessing
     anonymous: ClientAllowance
+    batches: BatchRepository | None = None
+    jobs: Any = None  # LocalJobs (SQLite) or QueuedJobs (PostgreSQL): how accepted items get run
 
     def draw_charts_ahead(self, record_id: str, charts: ChartSet) -> None:
         """After a record is stored: its charts are drawn in the background, so its report opens at once."""
@@ -51,12 +54,15 @@ class Runtime:
         return self.charts
 
     def close(self) -> None:
+        if self.jobs is not None:
+            self.jobs.close()
         self.pool.shutdown()
         self.drawer.shutdown()
         self.engine.dispose()
 
 
-def start_runtime(settings: Settings) -> Runtime:
+def start_runtime(settings: Settings, read_item: ItemReader | None = None) -> Runtime:
+    """``read_item`` reads a stored batch item as its front end reads a request; without it no jobs run here."""
     check_keys(settings)
     engine = open_store(settings)
     if not settings.api_key_list:
@@ -66,16 +72,19 @@ def start_runtime(settings: Settings) -> Runtime:
     pool = ComputePool(settings.compute_workers, settings.compute_queue, settings.request_timeout_seconds)
     drawer = ChartDrawer(charts, lambda record_id: audits.get(record_id).result_document, settings.chart_queue,
                          enabled=settings.draw_charts_ahead, wait_idle=pool.wait_idle)
+    batches = BatchRepository(engine)
     return Runtime(settings=settings, engine=engine, audits=audits, charts=charts, pool=pool, drawer=drawer,
                    guessing=KeyGuessing(settings.key_guess_limit),
-                   anonymous=ClientAllowance(settings.anonymous_rate_limit, "requests without a key"))
+                   anonymous=ClientAllowance(settings.anonymous_rate_limit, "requests without a key"),
+                   batches=batches, jobs=start_jobs(engine, audits, batches, pool, settings, read_item))
 
 
 class RuntimeHolder:
     """Starts the runtime once per app, however many requests arrive together."""
 
-    def __init__(self, settings: Settings) -> None:
+    def __init__(self, settings: Settings, read_item: ItemReader | None = None) -> None:
         self.settings = settings
+        self.read_item = read_item
         self._runtime: Runtime | None = None
         self._lock = threading.Lock()
 
@@ -83,7 +92,7 @@ class RuntimeHolder:
         if self._runtime is None:
             with self._lock:
                 if self._runtime is None:
-                    self._runtime = start_runtime(self.settings)
+                    self._runtime = start_runtime(self.settings, self.read_item)
         return self._runtime
 
     def close(self) -> None:

@@ -49,7 +49,7 @@ audits_table = sa.table(
     sa.column("input_sha256", sa.String), sa.column("seed", sa.BigInteger),
     sa.column("software_version", sa.String), sa.column("owner_token_sha256", sa.String),
     sa.column("summary", sa.JSON), sa.column("input_document", sa.JSON), sa.column("result_document", sa.JSON),
-    sa.column("search_text", sa.Text),
+    sa.column("search_text", sa.Text), sa.column("job_key", sa.String),
 )
 
 
@@ -79,6 +79,8 @@ class NewAudit:
     summary: dict[str, Any]
     kind: str = AUDIT
     search_text: str = ""  # lower-cased words a history search matches (title, the claim's words, who, where)
+    job_key: str | None = None  # a batch item's key: unique, so a job run twice stores its audit once
+    owner_token_sha256: str | None = None  # a batch item's: its batch's owner token; else a new token is made
 
 
 @dataclass(frozen=True)
@@ -160,25 +162,42 @@ class AuditRepository:
 
     @store_faults
     def create(self, audit: NewAudit) -> tuple[AuditRecord, str]:
-        """Stores the audit in one committed transaction; returns the record and the owner token (once)."""
-        owner_token = secrets.token_urlsafe(OWNER_TOKEN_BYTES)
+        """Stores the audit in one committed transaction; returns the record and the owner token (once). An audit
+        with a ``job_key`` already stored is not stored again: the stored one is returned (with no token)."""
+        owner_token = secrets.token_urlsafe(OWNER_TOKEN_BYTES) if audit.owner_token_sha256 is None else ""
         created_at = datetime.now(timezone.utc)
         audit_id = new_audit_id()
         row = {
             "id": audit_id, "kind": audit.kind, "title": audit.title, "created_at": created_at,
             "input_sha256": audit.input_sha256, "seed": audit.seed, "software_version": audit.software_version,
-            "owner_token_sha256": token_digest(owner_token), "summary": audit.summary,
+            "owner_token_sha256": audit.owner_token_sha256 or token_digest(owner_token), "summary": audit.summary,
             "input_document": audit.input_document, "result_document": audit.result_document,
-            "search_text": audit.search_text.lower(),
+            "search_text": audit.search_text.lower(), "job_key": audit.job_key,
         }
-        with self.engine.connect().execution_options(**write_options(self.engine)) as connection:
-            with connection.begin():
-                connection.execute(audits_table.insert().values(**row))
+        try:
+            with self.engine.connect().execution_options(**write_options(self.engine)) as connection:
+                with connection.begin():
+                    connection.execute(audits_table.insert().values(**row))
+        except sa.exc.IntegrityError:
+            stored = self.find_by_job_key(audit.job_key) if audit.job_key else None
+            if stored is None:
+                raise
+            return stored, ""
         record = AuditRecord(id=audit_id, kind=audit.kind, title=audit.title, created_at=created_at,
                              input_sha256=audit.input_sha256, seed=audit.seed,
                              software_version=audit.software_version, summary=audit.summary,
                              input_document=audit.input_document, result_document=audit.result_document)
         return record, owner_token
+
+    @store_faults
+    def find_by_job_key(self, job_key: str) -> AuditRecord | None:
+        """The audit a batch item stored, if it was stored."""
+        audit_id = self._scalar(sa.select(audits_table.c.id).where(audits_table.c.job_key == job_key))
+        return None if audit_id is None else self.get(audit_id)
+
+    def _scalar(self, query):
+        with self.engine.connect() as connection:
+            return connection.execute(query).scalar()
 
     @store_faults
     def get(self, audit_id: str, kind: str | None = None) -> AuditRecord:

@@ -79,6 +79,46 @@ def _v3_search_text(connection: Connection) -> None:
     connection.execute(sa.text("UPDATE audits SET search_text = LOWER(title)"))
 
 
+def _v4_batches(connection: Connection) -> None:
+    # Batches of audits run as durable jobs: each item is kept (its request as given) before the batch is
+    # accepted, and its stored audit carries the item's key, unique, so a job run twice stores it once.
+    metadata = sa.MetaData()
+    sa.Table(
+        "batches", metadata,
+        sa.Column("id", sa.String(64), primary_key=True),
+        sa.Column("created_at", sa.DateTime(timezone=True), nullable=False),
+        sa.Column("owner_token_sha256", sa.String(64), nullable=False),
+        sa.Column("requester", sa.String(64), nullable=False),  # a digest of the API key (or client) that sent it
+        sa.Column("item_count", sa.Integer, nullable=False),
+        sa.Column("cancelled", sa.Boolean, nullable=False, default=False),
+        sa.Index("ix_batches_requester", "requester"),
+    )
+    sa.Table(
+        "batch_items", metadata,
+        sa.Column("id", sa.String(64), primary_key=True),  # also the job's key and its public id
+        sa.Column("batch_id", sa.String(64), sa.ForeignKey("batches.id", ondelete="CASCADE"), nullable=False),
+        sa.Column("position", sa.Integer, nullable=False),
+        sa.Column("priority", sa.Integer, nullable=False),
+        sa.Column("request", sa.JSON, nullable=False),
+        sa.Column("status", sa.String(16), nullable=False),
+        sa.Column("attempts", sa.Integer, nullable=False),
+        sa.Column("claimed_by", sa.String(64), nullable=True),
+        sa.Column("lease_until", sa.DateTime(timezone=True), nullable=True),
+        sa.Column("started_at", sa.DateTime(timezone=True), nullable=True),
+        sa.Column("finished_at", sa.DateTime(timezone=True), nullable=True),
+        sa.Column("audit_id", sa.String(64), nullable=True),
+        sa.Column("problem", sa.JSON, nullable=True),
+        sa.Column("seconds", sa.Float, nullable=True),  # compute time, for the estimate of time left
+        sa.UniqueConstraint("batch_id", "position", name="uq_batch_items_position"),
+        sa.Index("ix_batch_items_batch_status", "batch_id", "status"),
+        sa.Index("ix_batch_items_status_priority", "status", "priority"),
+        sa.Index("ix_batch_items_batch_finished", "batch_id", "finished_at"),
+    )
+    metadata.create_all(connection)
+    connection.execute(sa.text("ALTER TABLE audits ADD COLUMN job_key VARCHAR(64)"))
+    connection.execute(sa.text("CREATE UNIQUE INDEX ux_audits_job_key ON audits (job_key)"))
+
+
 @dataclass(frozen=True)
 class Migration:
     version: int
@@ -90,6 +130,8 @@ MIGRATIONS: tuple[Migration, ...] = (
     Migration(1, "audits table: inputs, seed, version, result, owner token hash", _v1_audits),
     Migration(2, "charts table: each record's drawn charts, deleted with it", _v2_charts),
     Migration(3, "audits.search_text: the words a history search matches", _v3_search_text),
+    Migration(4, "batches and batch_items: durable jobs; audits.job_key, unique, so an item is stored once",
+              _v4_batches),
 )
 
 
@@ -124,3 +166,17 @@ def migrate(engine: Engine, migrations: tuple[Migration, ...] = MIGRATIONS) -> l
     if applied:
         log.info("database schema migrated to version %d", applied[-1])
     return applied
+
+
+def ensure_queue_schema(engine: Engine, schema_sql: str, probe_table: str) -> bool:
+    """On PostgreSQL, applies the job queue's own schema (``schema_sql``, the queue library's) once, under the
+    migration lock, when ``probe_table`` is absent; True when it was applied now."""
+    with engine.connect() as connection, connection.begin():
+        _lock(connection)
+        present = connection.execute(sa.text("SELECT to_regclass(:name)"), {"name": probe_table}).scalar()
+        if present is not None:
+            return False
+        # The driver's own cursor, with no parameters: the script is run exactly as written.
+        connection.connection.dbapi_connection.cursor().execute(schema_sql)
+    log.info("job queue schema applied")
+    return True

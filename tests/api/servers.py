@@ -62,12 +62,17 @@ class Server:
         self._log.close()
 
     def stop(self) -> None:
-        if self.process.poll() is None:
-            self.process.terminate()
-            try:
-                self.process.wait(timeout=15)
-            except subprocess.TimeoutExpired:
-                self.process.kill()
-                self.process.wait(timeout=15)
+        stop_process(self.process)
         if not self._log.closed:
             self._log.close()
+
+
+def stop_process(process: subprocess.Popen) -> None:
+    """SIGTERM, then SIGKILL if it has not ended within 15 s."""
+    if process.poll() is None:
+        process.terminate()
+        try:
+            process.wait(timeout=15)
+        except subprocess.TimeoutExpired:
+            process.kill()
+            process.wait(timeout=15)
