@@ -167,7 +167,12 @@ def _interval_noise(noise: NoiseModel, breakpoints: tuple[float, ...], tr: np.nd
         return noise
     line = np.column_stack([np.ones_like(tr), tr - tr.mean()])
     straight, _ = _choose_noise(yr - fit_trend(tr, yr).line(tr), line, options)
-    return straight if straight.long_run_variance > noise.long_run_variance else noise
+    if straight.long_run_variance <= noise.long_run_variance:
+        return noise
+    # A real change of rate makes the straight line's residuals so red that no range can be stated under them:
+    # those breaks are not noise, and the segmented fit's model stands.
+    stated = slope_uncertainty(tr, yr, method=straight.kind, confidence=options.confidence, noise=straight)
+    return straight if np.all(np.isfinite(stated.ci)) else noise
 
 
 def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions(),
