@@ -22,6 +22,7 @@ from app.main import create_app
 from app.report.chart_cache import clear_chart_cache, draw_charts
 from app.report.chart_sets import AUDIT_CHARTS
 from app.settings import Settings
+from app.service.claims import ClaimInput
 from bench import series
 from bench.figures import Figure, at_most, context
 from bench.timing import measure
@@ -31,7 +32,7 @@ TARGET_S = 0.3
 
 def _stored_audit(client: TestClient, make_series) -> tuple[str, dict]:
     runtime = client.app.state.runtime.get()
-    job = prepare_job(title="Benchmark", series=make_series(), claim=series.CLAIM, options=AuditOptions(seed=7),
+    job = prepare_job(title="Benchmark", series=make_series(), claim=ClaimInput(series.CLAIM.kind, series.CLAIM.start, series.CLAIM.end), options=AuditOptions(seed=7),
                       source={}, ingest={"format": "json"}, settings=runtime.settings)
     document = compute_document(job)
     record, _ = store_audit(runtime.audits, job, document)
