@@ -73,6 +73,9 @@ class Settings(BaseSettings):
     # Compute pool: CPU-bound audits run here, off the event loop.
     compute_workers: int = 2
     compute_queue: int = 8
+    # Worker processes a verdict timeline's cuts run on, shared by the server process (below 2: none, the cuts run
+    # in the thread working the timeline out; see app.service.timeline).
+    timeline_processes: int = 2
 
     # Report charts: drawn on one background thread after each record is stored, and kept in the
     # database, so a report opens without drawing. Past the queue a record's first view draws them.

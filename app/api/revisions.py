@@ -20,7 +20,7 @@ from app.service.records import AUDITS, read_record, record_body
 from app.service.revising import create_revision, revision_job_from_csv
 from app.service.revisions import check_may_revise, revised_inputs
 from app.service.runtime import Runtime
-from app.service.timeline import timeline_keeper, with_made_on
+from app.service.timeline import with_made_on
 from app.settings import Settings
 
 router = APIRouter(prefix="/api/v1/audits", tags=["audits"])
@@ -99,4 +99,4 @@ async def timeline(audit_id: str = AUDIT_ID, runtime: Runtime = Depends(get_runt
     60 cuts, each with a seed derived from the audit's), and, when `claim.made_on` was given, with the data as
     they stood that day. Worked out in the background just after the audit is stored (while no audit is
 computing), and kept with it; asked for before it is ready, the answer waits for it."""
-    return JSONResponse(await timeline_keeper(runtime.pool).get(runtime.audits, audit_id, AUDITS.kind))
+    return JSONResponse(await runtime.timelines.get(runtime.audits, audit_id, AUDITS.kind))

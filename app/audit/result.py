@@ -44,6 +44,18 @@ class Adjustment:
 
 
 @dataclass(frozen=True)
+class ClaimVerdict:
+    """The verdict and the numbers it rests on, as ``run_audit`` would give them (see ``audit_verdict``)."""
+
+    options: AuditOptions
+    verdict: Verdict
+    verdict_inputs: VerdictInputs
+    window: Any  # stats.trend.SlopeEstimate
+    long_term: Any  # stats.trend.SlopeEstimate: the long-term trend with the range the audit states
+    change: Any  # stats.window_change.WindowChangeTest
+
+
+@dataclass(frozen=True)
 class AuditResult:
     series: Series
     claim: Claim

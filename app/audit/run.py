@@ -11,6 +11,7 @@ verdict, every robustness row and the whole-record check are that function appli
 from __future__ import annotations
 
 import dataclasses
+import math
 import time as _time
 from typing import Sequence
 
@@ -19,7 +20,7 @@ import numpy as np
 from app import __version__
 from app.audit.claim import AUTO_NOISE, RATE_UNITS, AuditOptions, Claim, check_claim, window_mask
 from app.audit.reference import choose_reference
-from app.audit.result import Adjustment, AuditResult, RobustnessRow, WholeRecordCheck
+from app.audit.result import Adjustment, AuditResult, ClaimVerdict, RobustnessRow, WholeRecordCheck
 from app.audit.verdict import (CHANGE_SUPPORTED, MODEL_DEPENDENT, VerdictInputs, decide, decide_code,
                                format_rate, ordinal)
 from app.errors import ClaimError, Location
@@ -175,11 +176,37 @@ def _interval_noise(noise: NoiseModel, breakpoints: tuple[float, ...], tr: np.nd
     return straight if np.all(np.isfinite(stated.ci)) else noise
 
 
-def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions(),
-              covariates: Sequence[Covariate] = ()) -> AuditResult:
-    """Audit ``claim`` against ``series``; with covariates, audit the adjusted series too (same seed)."""
+@dataclasses.dataclass(frozen=True)
+class _Decision:
+    """The verdict and everything it rests on: the first stage of ``run_audit`` and the whole of ``audit_verdict``."""
+
+    options: AuditOptions
+    rng: dict[str, np.random.Generator]
+    in_window: np.ndarray
+    segmentation: object
+    segment_residuals: np.ndarray
+    reference: object
+    noise: NoiseModel
+    selection: NoiseSelection
+    long_term: object | None  # the TrendSummary; None when only the verdict was asked for
+    main: ReferenceFit
+    spell: object
+    inputs: VerdictInputs
+    window: SlopeEstimate
+    weaker: object
+    stronger: object
+    robustness: tuple[RobustnessRow, ...] | None  # None when only the verdict was asked for and it did not need them
+    verdict: object
+    judge: object
+
+
+def _decide(series: Series, claim: Claim, options: AuditOptions, complete: bool) -> _Decision:
+    """Segmentation, reference period, noise, long-term trend, change test, spell and verdict.
+
+    With ``complete`` false, the analyses the verdict does not rest on are left out: the reference period's Sen
+    slope and method table, and the robustness rows unless support is found (only then can a plausible noise model
+    withhold it). Each analysis draws from its own stream, so leaving some out changes no number of the others."""
     check_claim(claim)
-    started = _time.perf_counter()
     seed = options.seed if options.seed is not None else draw_seed()
     options = dataclasses.replace(options, seed=seed)
     rng = _streams(seed, STREAMS)
@@ -187,15 +214,9 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
     ppy = series.points_per_year
     t, y = series.time, series.value
     in_window = _window_mask(series, claim)
-    min_points = max(MIN_POINTS_BEFORE_WINDOW, int(round(options.min_segment_years * ppy)))
-    # The covariate fit is cheap and the likeliest to refuse bad input: do it before the expensive work.
-    covariate_fit = _fit_covariates(series, options, covariates)
 
     segmentation = segment_continuous(t, y, max_breaks=options.max_breaks, min_size_years=options.min_segment_years,
                                       points_per_year=ppy, confidence=options.confidence, rng=rng["segments"])
-    segmentation_jump = segment_discontinuous(t, y, max_breaks=options.max_breaks,
-                                              min_size_points=max(3, min_points),
-                                              confidence=options.confidence, rng=rng["segments_jump"])
     reference = choose_reference(series.start, series.end, claim.start, segmentation.breakpoints,
                                  options.min_segment_years, options.reference_start, options.reference_end)
     in_ref = (t >= reference.start) & (t <= reference.end)
@@ -214,47 +235,94 @@ def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions
     noise, selection = _choose_noise(segment_residuals[in_ref], _segment_design(tr, segmentation.breakpoints),
                                      options)
     interval_noise = _interval_noise(noise, segmentation.breakpoints, tr, yr, options)
-    long_term = summarise_trend(tr, yr, method=interval_noise.kind, confidence=options.confidence,
-                                noise=interval_noise, points_per_year=ppy)
-    mk_p = long_term.mann_kendall.p_value
+    long_term, mk_p = None, math.nan
+    if complete:
+        long_term = summarise_trend(tr, yr, method=interval_noise.kind, confidence=options.confidence,
+                                    noise=interval_noise, points_per_year=ppy)
+        mk_p = long_term.mann_kendall.p_value
     main = _reference_fit(tr, yr, window_in_ref, claim, noise, noise.kind, options, options.simulations,
                           rng["change"], ppy, mk_p, interval_noise=interval_noise)
-    lt_estimate = main.long_term
-    tail = claim.tail(lt_estimate.slope)
-    spell = spell_probability(tr, lt_estimate.slope, noise, int(tw.size), float(fit_trend(tw, yw).slope),
+    if math.isnan(mk_p) and main.long_term.p_value >= alpha:
+        # Mann-Kendall only matters to the verdict when the parametric test finds no trend; it costs as much as the
+        # rest of a long record's verdict, so the verdict alone skips it otherwise (its p-value is then NaN).
+        mk_p = mann_kendall(yr, alpha=alpha).p_value  # the same test summarise_trend makes
+        main = dataclasses.replace(main, mann_kendall_p=float(mk_p))
+    tail = claim.tail(main.long_term.slope)
+    spell = spell_probability(tr, main.long_term.slope, noise, int(tw.size), float(fit_trend(tw, yw).slope),
                               direction=tail, n_simulations=options.simulations, rng=rng["spell"])
-    window_power = detection_power(lt_estimate.slope, noise, int(tw.size), ppy, alpha=alpha)
-    detect_curve = _detect_curve(lt_estimate.slope, noise, ppy, alpha, tr.size)
 
     judge = lambda fit, method, disagreeing=(): _judge(claim, fit, tw, yw, method, options,  # noqa: E731
                                                        spell.probability, series, reference.start, disagreeing)
     inputs, window, weaker, stronger = judge(main, noise.kind)
-    robustness = _robustness(tr, yr, window_in_ref, claim, selection, main, options, rng, ppy, mk_p, judge,
-                             decide_code(inputs))
-    disagreeing = _disagreeing(selection, robustness, noise.kind)
-    if disagreeing and decide_code(inputs) == CHANGE_SUPPORTED:
-        inputs = dataclasses.replace(inputs, disagreeing_models=disagreeing)
-        robustness = tuple(dataclasses.replace(row, holds=row.code in (CHANGE_SUPPORTED, MODEL_DEPENDENT)
-                                               if row.method != noise.kind else True) for row in robustness)
-    verdict = decide(inputs)
+    main_code = decide_code(inputs)
+    robustness = None
+    if complete or main_code == CHANGE_SUPPORTED:
+        if math.isnan(mk_p):  # another noise model may find no trend where this one did
+            mk_p = mann_kendall(yr, alpha=alpha).p_value
+        robustness = _robustness(tr, yr, window_in_ref, claim, selection, main, options, rng, ppy, mk_p, judge,
+                                 main_code)
+        disagreeing = _disagreeing(selection, robustness, noise.kind)
+        if disagreeing and main_code == CHANGE_SUPPORTED:
+            inputs = dataclasses.replace(inputs, disagreeing_models=disagreeing)
+            robustness = tuple(dataclasses.replace(row, holds=row.code in (CHANGE_SUPPORTED, MODEL_DEPENDENT)
+                                                   if row.method != noise.kind else True) for row in robustness)
+    return _Decision(options=options, rng=rng, in_window=in_window, segmentation=segmentation,
+                     segment_residuals=segment_residuals, reference=reference, noise=noise, selection=selection,
+                     long_term=long_term, main=main, spell=spell, inputs=inputs, window=window, weaker=weaker,
+                     stronger=stronger, robustness=robustness, verdict=decide(inputs), judge=judge)
 
+
+def audit_verdict(series: Series, claim: Claim, options: AuditOptions = AuditOptions()) -> ClaimVerdict:
+    """The verdict ``run_audit`` gives, with the numbers it rests on, without the report's other analyses.
+
+    For callers that audit one claim many times and keep only the verdict (the timeline audits up to 60 cuts of a
+    record). Every number here equals the one ``run_audit`` gives for the same inputs and seed, except the reference
+    period's Mann-Kendall p-value, which is NaN where the parametric test alone finds the long-term trend."""
+    d = _decide(series, claim, options, complete=False)
+    return ClaimVerdict(options=d.options, verdict=d.verdict, verdict_inputs=d.inputs, window=d.window,
+                        long_term=d.main.long_term, change=d.main.change)
+
+
+def run_audit(series: Series, claim: Claim, options: AuditOptions = AuditOptions(),
+              covariates: Sequence[Covariate] = ()) -> AuditResult:
+    """Audit ``claim`` against ``series``; with covariates, audit the adjusted series too (same seed)."""
+    check_claim(claim)
+    started = _time.perf_counter()
+    options = dataclasses.replace(options, seed=options.seed if options.seed is not None else draw_seed())
+    _window_mask(series, claim)
+    # The covariate fit is cheap and the likeliest to refuse bad input: do it before the expensive work.
+    covariate_fit = _fit_covariates(series, options, covariates)
+    d = _decide(series, claim, options, complete=True)
+    options, rng, noise, main, reference = d.options, d.rng, d.noise, d.main, d.reference
+    t, y = series.time, series.value
+    tw, yw = t[d.in_window], y[d.in_window]
+    ppy = series.points_per_year
+    alpha = 1.0 - options.confidence
+    min_points = max(MIN_POINTS_BEFORE_WINDOW, int(round(options.min_segment_years * ppy)))
+    segmentation_jump = segment_discontinuous(t, y, max_breaks=options.max_breaks,
+                                              min_size_points=max(3, min_points),
+                                              confidence=options.confidence, rng=rng["segments_jump"])
+    lt_slope = main.long_term.slope
+    window_power = detection_power(lt_slope, noise, int(tw.size), ppy, alpha=alpha)
+    tr_size = int(np.count_nonzero((t >= reference.start) & (t <= reference.end)))
+    detect_curve = _detect_curve(lt_slope, noise, ppy, alpha, tr_size)
     sensitivity = window_sensitivity(t, y, float(tw[0]), float(tw[-1]), k_years=options.sensitivity_years,
-                                     long_term_slope=lt_estimate.slope)
-    endpoints = endpoint_outliers(t, y, float(tw[0]), float(tw[-1]), long_term.fit.line(t), noise.marginal_sd)
-    whole = _whole_record(series, claim, in_window, segment_residuals, noise.kind, options, main, reference, rng,
-                          ppy, judge)
-    verdict = dataclasses.replace(verdict, what_would_change=_what_would_change(
-        inputs, verdict.code, sensitivity, robustness, whole, options, series.units))
+                                     long_term_slope=lt_slope)
+    endpoints = endpoint_outliers(t, y, float(tw[0]), float(tw[-1]), d.long_term.fit.line(t), noise.marginal_sd)
+    whole = _whole_record(series, claim, d.in_window, d.segment_residuals, noise.kind, options, main, reference, rng,
+                          ppy, d.judge)
+    verdict = dataclasses.replace(d.verdict, what_would_change=_what_would_change(
+        d.inputs, d.verdict.code, sensitivity, d.robustness, whole, options, series.units))
 
     return AuditResult(
-        series=series, claim=claim, options=options, seed=seed, software_version=__version__,
-        reference=reference, long_term=long_term, noise=noise, noise_selection=selection, window=window,
-        window_fit=fit_trend(tw, yw), window_weaker=weaker, window_stronger=stronger, change=main.change,
-        segmentation=segmentation, segmentation_discontinuous=segmentation_jump, spell=spell,
+        series=series, claim=claim, options=options, seed=options.seed, software_version=__version__,
+        reference=reference, long_term=d.long_term, noise=noise, noise_selection=d.selection, window=d.window,
+        window_fit=fit_trend(tw, yw), window_weaker=d.weaker, window_stronger=d.stronger, change=main.change,
+        segmentation=d.segmentation, segmentation_discontinuous=segmentation_jump, spell=d.spell,
         sensitivity=sensitivity, endpoints=endpoints, years_to_detect=main.years_to_detect,
         window_power=window_power, detect_curve=detect_curve, window_mann_kendall=mann_kendall(yw, alpha=alpha),
-        window_sen=sen_slope(tw, yw, confidence=options.confidence), robustness=robustness, whole_record=whole,
-        verdict=verdict, verdict_inputs=inputs, adjustment=_adjust(series, claim, options, covariates, covariate_fit),
+        window_sen=sen_slope(tw, yw, confidence=options.confidence), robustness=d.robustness, whole_record=whole,
+        verdict=verdict, verdict_inputs=d.inputs, adjustment=_adjust(series, claim, options, covariates, covariate_fit),
         elapsed_seconds=_time.perf_counter() - started,
     )
 

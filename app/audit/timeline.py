@@ -1,7 +1,8 @@
 """The verdict as each year was added: the same claim audited with the data cut at successive year ends.
 
-Each cut is an ordinary ``run_audit`` on the series as it stood at that year end, with the claimed window
-running from the claim's start to the cut ("the window to date"); no statistic is computed here. Every
+Each cut is the verdict ``run_audit`` would give on the series as it stood at that year end (``audit_verdict``:
+the same numbers, without the report's other analyses), with the claimed window running from the claim's start
+to the cut ("the window to date"); no statistic is computed here. Every
 cut has its own seed, derived from the audit's seed and the cut's year, so a row is reproducible alone
 and adding a year never shifts the numbers of the others.
 
@@ -15,7 +16,9 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from collections import deque
 from collections.abc import Callable
+from concurrent.futures import Executor, Future
 from dataclasses import dataclass
 from datetime import date
 
@@ -24,7 +27,7 @@ import numpy as np
 from app.ingest.window_edges import in_window
 
 from app.audit.claim import AuditOptions, Claim
-from app.audit.run import run_audit
+from app.audit.run import audit_verdict
 from app.errors import InputError
 from app.ingest.sampling import period_label
 from app.ingest.series import Series
@@ -117,49 +120,83 @@ def thin(years: list[int], most: int = MAX_CUTS) -> list[int]:
 
 def audit_cut(series: Series, claim: Claim, options: AuditOptions, moment: float, label: str,
               key: int) -> TimelineRow:
-    """``run_audit`` on the record as it stood at ``moment``, the window running to the last point then."""
+    """The verdict on the record as it stood at ``moment``, the window running to the last point then."""
     cut = series_until(series, moment)
     if cut.n == 0:
         raise InputError(f"no data had been recorded by {label}")
     window = Claim(start=claim.start, end=cut.end + cut.step / 2.0, kind=claim.kind)  # the window to date
     seed = cut_seed(options.seed if options.seed is not None else 0, key)
     screen = min(options.simulations, SCREEN_SIMULATIONS)
-    result = run_audit(cut, window, dataclasses.replace(options, seed=seed, simulations=screen))
+    result = audit_verdict(cut, window, dataclasses.replace(options, seed=seed, simulations=screen))
     p = result.change.p_value_adjusted
     alpha = 1.0 - options.confidence
     if screen < options.simulations and abs(p - alpha) < SCREEN_MARGIN * monte_carlo_se(p, result.change.n_simulations):
-        result = run_audit(cut, window, dataclasses.replace(options, seed=seed))
+        result = audit_verdict(cut, window, dataclasses.replace(options, seed=seed))
     in_window = result.verdict_inputs
     return TimelineRow(
         cut_label=label, cut_end=float(moment), n=cut.n, window_first=in_window.first_label,
         window_last=in_window.last_label, seed=seed, simulations=result.options.simulations,
         code=result.verdict.code, headline=result.verdict.headline, window_slope=float(result.window.slope),
-        window_ci=tuple(float(v) for v in result.window.ci), long_term_slope=float(result.long_term.chosen.slope),
-        long_term_ci=tuple(float(v) for v in result.long_term.chosen.ci),
+        window_ci=tuple(float(v) for v in result.window.ci), long_term_slope=float(result.long_term.slope),
+        long_term_ci=tuple(float(v) for v in result.long_term.ci),
         change_p_adjusted=float(result.change.p_value_adjusted))
 
 
+Cut = tuple[float, str, int]  # (the moment the data are cut at, its label, the key its seed derives from)
+
+
+def cut_outcome(series: Series, claim: Claim, options: AuditOptions, cut: Cut) -> TimelineRow | SkippedCut:
+    """One cut's row, or why it has none (too few points in the window or before it, as the data stood then)."""
+    moment, label, key = cut
+    try:
+        return audit_cut(series, claim, options, moment, label, key)
+    except InputError as error:
+        return SkippedCut(label, error.message)
+
+
+def _outcomes(series: Series, claim: Claim, options: AuditOptions, cuts: list[Cut], wait: Callable[[], None],
+              executor: Executor | None, in_flight: int) -> list[TimelineRow | SkippedCut]:
+    """Every cut's outcome, in order: one after another, or up to ``in_flight`` at once on ``executor``.
+    ``wait`` runs before each cut starts, so a caller that gives way to other work never has more than
+    ``in_flight`` cuts running."""
+    if executor is None or in_flight < 2:
+        outcomes = []
+        for cut in cuts:
+            wait()
+            outcomes.append(cut_outcome(series, claim, options, cut))
+        return outcomes
+    running: deque[Future] = deque()
+    outcomes = []
+    try:
+        for cut in cuts:
+            if len(running) >= in_flight:
+                outcomes.append(running.popleft().result())
+            wait()
+            running.append(executor.submit(cut_outcome, series, claim, options, cut))
+        outcomes.extend(future.result() for future in list(running))
+    finally:
+        for future in running:
+            future.cancel()
+    return outcomes
+
+
 def audit_timeline(series: Series, claim: Claim, options: AuditOptions, made_on: str | None = None,
-                   before_each: Callable[[], None] | None = None) -> Timeline:
+                   before_each: Callable[[], None] | None = None, executor: Executor | None = None,
+                   in_flight: int = 1) -> Timeline:
     """The claim audited at each year end from its window's end to the record's end, and on the day it was made.
-    ``before_each`` is called before every cut (a background caller waits there to give way to other work)."""
+
+    ``before_each`` is called before every cut (a background caller waits there to give way to other work). With
+    an ``executor`` (worker processes), up to ``in_flight`` cuts run at once; the rows are the same either way."""
     years = cut_years(series, claim)
-    rows, skipped = [], []
-    wait = before_each or (lambda: None)
-    for year in thin(years):
-        wait()
-        label = period_label(year + 0.5, "annual")
-        try:
-            rows.append(audit_cut(series, claim, options, year + 1.0, label, year))
-        except InputError as error:  # too few points in the window or before it, as the data stood then
-            skipped.append(SkippedCut(label, error.message))
-    at_the_time = None
+    cuts: list[Cut] = [(year + 1.0, period_label(year + 0.5, "annual"), year) for year in thin(years)]
     if made_on:
-        wait()
         moment = decimal_date(made_on)
-        try:
-            at_the_time = audit_cut(series, claim, options, moment, made_on, int(round(moment * 1000)))
-        except InputError as error:
-            skipped.append(SkippedCut(made_on, error.message))
-    return Timeline(rows=tuple(rows), skipped=tuple(skipped), at_the_time=at_the_time, made_on=made_on,
-                    cuts_available=len(years))
+        cuts.append((moment, made_on, int(round(moment * 1000))))
+    outcomes = _outcomes(series, claim, options, cuts, before_each or (lambda: None), executor, in_flight)
+    at_the_time = outcomes.pop() if made_on else None
+    if isinstance(at_the_time, SkippedCut):
+        outcomes.append(at_the_time)
+        at_the_time = None
+    return Timeline(rows=tuple(o for o in outcomes if isinstance(o, TimelineRow)),
+                    skipped=tuple(o for o in outcomes if isinstance(o, SkippedCut)), at_the_time=at_the_time,
+                    made_on=made_on, cuts_available=len(years))

@@ -12,7 +12,6 @@ from app.service.comparisons import ComparisonJob, compute_comparison_document, 
 from app.service.correlations import CorrelationJob, compute_correlation_document, store_correlation
 from app.service.records import AUDITS, COMPARISONS, RecordKind
 from app.service.runtime import Runtime
-from app.service.timeline import timeline_keeper
 from app.store import AuditRecord
 
 
@@ -41,7 +40,7 @@ async def create_record(runtime: Runtime, kind: RecordKind, job: AuditJob | Corr
         document = amend(document)
     record, owner_token = await asyncio.to_thread(store, runtime.audits, job, document)
     if kind is AUDITS:  # the verdict as each year was added: computed next, never holding up this answer
-        timeline_keeper(runtime.pool).start(runtime.audits, record.id, record.input_document)
+        runtime.timelines.start(runtime.audits, record.id, record.input_document)
     if draw_now:
         await asyncio.to_thread(runtime.draw_charts_now, record.id, document, kind.charts)
     else:

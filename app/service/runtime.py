@@ -20,6 +20,7 @@ from app.service.chart_drawing import ChartDrawer
 from app.service.guessing import ClientAllowance, KeyGuessing
 from app.service.pool import ComputePool
 from app.service.startup import check_keys, open_store
+from app.service.timeline import TimelineKeeper, timeline_keeper
 from app.settings import Settings
 from app.service.jobs import ItemReader, start_jobs
 from app.store import AuditRepository, BatchRepository, ChartRepository
@@ -39,6 +40,11 @@ class Runtime:
     anonymous: ClientAllowance
     batches: BatchRepository | None = None
     jobs: Any = None  # LocalJobs (SQLite) or QueuedJobs (PostgreSQL): how accepted items get run
+
+    @property
+    def timelines(self) -> TimelineKeeper:
+        """Works out stored audits' verdict timelines (one keeper per compute pool)."""
+        return timeline_keeper(self.pool, self.settings.timeline_processes)
 
     def draw_charts_ahead(self, record_id: str, charts: ChartSet) -> None:
         """After a record is stored: its charts are drawn in the background, so its report opens at once."""

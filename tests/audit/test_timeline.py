@@ -10,6 +10,8 @@ as we recall the paper, not a number copied from it).
 
 from __future__ import annotations
 
+import dataclasses
+
 import numpy as np
 import pytest
 
@@ -97,3 +99,52 @@ def test_as_years_are_added_a_real_pause_gains_support_and_a_steady_trend_contra
     # The same noise on a steady trend: once enough years are in, the "pause" is contradicted and stays so.
     assert steady.rows[-1].code == "claim_contradicted" and steady.rows[-1].window_ci[0] > 0
     assert all(row.code != "trend_change_supported" for row in steady.rows)
+
+
+def _flat(seed: int) -> Series:
+    """Invented annual record with no trend at all: AR(1) noise only (phi 0.3, sd 0.1)."""
+    t = np.arange(1950, 2021) + 0.5
+    rng = np.random.default_rng(seed)
+    noise = np.zeros(t.size)
+    for i in range(1, t.size):
+        noise[i] = 0.3 * noise[i - 1] + rng.normal(0.0, 0.1)
+    return Series(time=t, value=noise, sampling="annual", label="flat", units="°C")
+
+
+@pytest.mark.parametrize("make, claim", [
+    (lambda: _simulated(2000.0, seed=1), Claim(2000.0, 2031.0, "pause")),  # support found: robustness rows decide
+    (lambda: _simulated(None, seed=1), Claim(2000.0, 2031.0, "pause")),  # contradicted
+    (lambda: _flat(3), Claim(2000.0, 2015.0, "pause")),  # no trend: Mann-Kendall decides
+], ids=["supported", "contradicted", "no-trend"])
+def test_the_verdict_alone_equals_the_full_audits(make, claim):
+    from app.audit import audit_verdict, run_audit
+
+    series, options = make(), AuditOptions(seed=11, simulations=400)
+    full, alone = run_audit(series, claim, options), audit_verdict(series, claim, options)
+    assert alone.verdict.code == full.verdict.code and alone.verdict.headline == full.verdict.headline
+    same = lambda a, b: repr(a) == repr(b)  # noqa: E731 - every float to the last digit, NaN equal to NaN
+    assert same(alone.window, full.window) and same(alone.change, full.change)
+    assert same(alone.long_term, full.long_term.chosen)
+    mk = alone.verdict_inputs.long_term_mk_p
+    # Mann-Kendall is left out only where the parametric test alone finds the long-term trend.
+    assert (np.isnan(mk) and full.verdict_inputs.long_term_p < 0.05) or mk == full.verdict_inputs.long_term_mk_p
+    assert same(alone.verdict_inputs, dataclasses.replace(full.verdict_inputs, long_term_mk_p=mk))
+
+
+def test_the_flat_record_needed_mann_kendall():
+    from app.audit import audit_verdict
+
+    inputs = audit_verdict(_flat(3), Claim(2000.0, 2015.0, "pause"), AuditOptions(seed=11, simulations=400)).verdict_inputs
+    assert inputs.long_term_p >= 0.05 and not np.isnan(inputs.long_term_mk_p)
+
+
+def test_cuts_on_worker_processes_give_the_rows_they_give_one_after_another():
+    from concurrent.futures import ProcessPoolExecutor
+    from multiprocessing import get_context
+
+    series, claim = _simulated(2000.0, seed=2), Claim(2000.0, 2009.0, "pause")
+    options = AuditOptions(seed=5, simulations=300)
+    alone = audit_timeline(series, claim, options, made_on="2012-03-01")
+    with ProcessPoolExecutor(max_workers=2, mp_context=get_context("forkserver")) as workers:
+        shared = audit_timeline(series, claim, options, made_on="2012-03-01", executor=workers, in_flight=2)
+    assert shared == alone and len(shared.rows) == 23 and shared.at_the_time is not None
