@@ -2,14 +2,15 @@
 
 Each cut is the verdict ``run_audit`` would give on the series as it stood at that year end (``audit_verdict``:
 the same numbers, without the report's other analyses), with the claimed window running from the claim's start
-to the cut ("the window to date"); no statistic is computed here. Every
-cut has its own seed, derived from the audit's seed and the cut's year, so a row is reproducible alone
-and adding a year never shifts the numbers of the others.
+to the cut ("the window to date"); no statistic is computed here. Every cut has its own seed, derived from
+the audit's seed and the cut's year, so a row is reproducible alone and adding a year never shifts the numbers
+of the others.
 
 Speed: a cut is first audited with at most ``SCREEN_SIMULATIONS`` simulations. ``run_audit`` already grows
 a change test whose p-value sits within simulation noise of the threshold; a cut whose screened p-value
 still lies within ``SCREEN_MARGIN`` standard errors of the threshold is audited again with the audit's own
-simulations, so only cuts whose verdict is far from the line use fewer.
+simulations, so only cuts whose verdict is far from the line use fewer. Cuts are independent, so a caller
+with worker processes runs several at once (``executor``); the service does (``app.service.timeline``).
 """
 
 from __future__ import annotations

@@ -58,7 +58,7 @@ class ChartView:
     title: str
     caption: str
     description: str
-    svg: Markup  # safe to inline: produced by the chart pipeline, every text escaped
+    svg: Markup | None  # safe to inline: produced by the chart pipeline, every text escaped; None: not drawn yet
     svg_url: str
     png_url: str
 
@@ -214,22 +214,46 @@ def chart_file(record_id: str, document: dict[str, Any], name: str, fmt: str,
     if fmt == "png":
         result: bytes | str = png_bytes(charts.specs[name].build(document))
     else:
-        labelled = prepared_charts(record_id, document, charts, shelf)[name]
+        labelled = _labelled_chart(record_id, document, name, charts, shelf)
         result = as_inline(labelled) if fmt == "inline" else as_standalone(labelled)
     _cache.put(key, result)
     return result
 
 
+def drawn_charts(record_id: str, charts: ChartSet = AUDIT_CHARTS,
+                 shelf: ChartShelf | None = None) -> Mapping[str, str]:
+    """The record's charts already drawn (in this process or kept on the shelf), by name, drawing none."""
+    cached = _cache.get((charts.kind, record_id, "labelled"))
+    if cached is not None:
+        return cached
+    return dict(shelf.load(record_id, CHART_RENDERER) or {}) if shelf is not None else {}
+
+
+def _labelled_chart(record_id: str, document: dict[str, Any], name: str, charts: ChartSet,
+                    shelf: ChartShelf | None) -> str:
+    """One chart's labelled SVG: among the record's charts already drawn, else drawn alone and kept beside them
+    (a chart file asked for under load need not wait for the rest of its report's charts)."""
+    drawn = drawn_charts(record_id, charts, shelf)
+    if name in drawn:
+        return drawn[name]
+    labelled = draw_charts(document, charts, (name,))[name]
+    if shelf is not None:  # read again just before keeping: another view may have kept charts meanwhile
+        shelf.keep(record_id, CHART_RENDERER, {**(shelf.load(record_id, CHART_RENDERER) or {}), name: labelled})
+    return labelled
+
+
 def chart_views(record_id: str, document: dict[str, Any], charts: ChartSet = AUDIT_CHARTS,
-                shelf: ChartShelf | None = None) -> tuple[ChartView, ...]:
-    """Every chart the document has, ready to inline, with its download addresses."""
+                shelf: ChartShelf | None = None, draw_missing: bool = True) -> tuple[ChartView, ...]:
+    """Every chart the document has, ready to inline, with its download addresses. With ``draw_missing`` false
+    a chart not drawn yet comes without its SVG (the page then shows it from its download address)."""
+    drawn = prepared_charts(record_id, document, charts, shelf) if draw_missing \
+        else drawn_charts(record_id, charts, shelf)
     views = []
     for name in charts.names(document):
         spec = charts.specs[name]
         base = f"{charts.base_path}/{record_id}/charts/{name}"
+        svg = Markup(as_inline(drawn[name])) if name in drawn else None
         views.append(ChartView(
             name=name, title=spec.title(document), caption=spec.caption(document),
-            description=spec.description(document),
-            svg=Markup(chart_file(record_id, document, name, "inline", charts, shelf)), svg_url=f"{base}.svg",
-            png_url=f"{base}.png"))
+            description=spec.description(document), svg=svg, svg_url=f"{base}.svg", png_url=f"{base}.png"))
     return tuple(views)

@@ -82,20 +82,22 @@ class OwnerNotice:
 
 
 def report_parts(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
-                 shelf: ChartShelf | None = None) -> tuple[ReportContext, tuple[ChartView, ...]]:
+                 shelf: ChartShelf | None = None, draw_missing: bool = True
+                 ) -> tuple[ReportContext, tuple[ChartView, ...]]:
     stored = stored_result(audit)
     context = report_context(audit_id=stored.id, title=stored.title, created_at=stored.created_at,
                              document=stored.document, source=dict(source or stored.source or {}), base_url=base_url,
                              permalink=stored.report_url)
-    return context, chart_views(stored.id, stored.document, shelf=shelf)
+    return context, chart_views(stored.id, stored.document, shelf=shelf, draw_missing=draw_missing)
 
 
 def report_values(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
                   owner: OwnerNotice | None = None, shelf: ChartShelf | None = None,
-                  chain: Mapping[str, Any] | None = None) -> dict[str, Any]:
+                  chain: Mapping[str, Any] | None = None, draw_missing: bool = True) -> dict[str, Any]:
     """Everything report.html renders: the context, the adjustment when there is one, the charts in page order;
-    ``chain``, the audits this one revised and those revising it, as the service found them."""
-    context, charts = report_parts(audit, source=source, base_url=base_url, shelf=shelf)
+    ``chain``, the audits this one revised and those revising it, as the service found them; with
+    ``draw_missing`` false, charts not drawn yet are left to the browser to fetch from their addresses."""
+    context, charts = report_parts(audit, source=source, base_url=base_url, shelf=shelf, draw_missing=draw_missing)
     document = stored_result(audit).document
     by_name = {chart.name: chart for chart in charts}
     adjusted_chart = by_name.get(ADJUSTED_CHART_NAME)
@@ -117,20 +119,21 @@ def report_values(audit: Any, *, source: Mapping[str, Any] | None = None, base_u
 
 def render_report(audit: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
                   owner: OwnerNotice | None = None, shelf: ChartShelf | None = None,
-                  chain: Mapping[str, Any] | None = None) -> str:
+                  chain: Mapping[str, Any] | None = None, draw_missing: bool = True) -> str:
     """The report page for one stored audit, as a complete HTML document; with ``owner``, the page just after
     creating it, which shows the owner token once. ``shelf`` is where its charts may already be kept."""
     return render_page("report.html", **report_values(audit, source=source, base_url=base_url, owner=owner,
-                                                      shelf=shelf, chain=chain))
+                                                      shelf=shelf, chain=chain, draw_missing=draw_missing))
 
 
 def correlation_values(correlation: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
-                       owner: OwnerNotice | None = None, shelf: ChartShelf | None = None) -> dict[str, Any]:
+                       owner: OwnerNotice | None = None, shelf: ChartShelf | None = None,
+                       draw_missing: bool = True) -> dict[str, Any]:
     stored = stored_result(correlation)
     context = correlation_context(record_id=stored.id, title=stored.title, created_at=stored.created_at,
                                   document=stored.document, source=dict(source or stored.source or {}),
                                   base_url=base_url, permalink=stored.report_url)
-    charts = chart_views(stored.id, stored.document, CORRELATION_CHARTS, shelf)
+    charts = chart_views(stored.id, stored.document, CORRELATION_CHARTS, shelf, draw_missing)
     share = share_view(kind="correlation", record_id=stored.id, title=stored.title, created_at=stored.created_at,
                        doc=stored.document, permalink=context.links.permalink, base_url=base_url)
     return {"report": context, "charts": charts, "share": share, "noindex": True, "page_title": f"{context.title} - Trend Audit",
@@ -138,10 +141,11 @@ def correlation_values(correlation: Any, *, source: Mapping[str, Any] | None = N
 
 
 def render_correlation_report(correlation: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",
-                              owner: OwnerNotice | None = None, shelf: ChartShelf | None = None) -> str:
+                              owner: OwnerNotice | None = None, shelf: ChartShelf | None = None,
+                              draw_missing: bool = True) -> str:
     """The report page for one stored driver-response correlation audit, from its record or the API's body."""
     return render_page("correlation.html", **correlation_values(correlation, source=source, base_url=base_url,
-                                                                owner=owner, shelf=shelf))
+                                                                owner=owner, shelf=shelf, draw_missing=draw_missing))
 
 
 def render_comparison(comparison: Any, *, source: Mapping[str, Any] | None = None, base_url: str = "",

@@ -54,6 +54,12 @@ class Runtime:
         """Draws and keeps a new record's charts while someone waits for its page anyway (the desk)."""
         prepared_charts(record_id, document, charts, self.charts)
 
+    def views_may_draw(self) -> bool:
+        """Whether a page view may draw the charts not drawn yet: only while no audit is computing. Under load a
+        report opens at once without them, and the browser fetches each from its address (drawn when asked for):
+        drawn in the view, they took a median 12 s a page under 32 clients on two cores."""
+        return self.pool.wait_idle(0)
+
     def chart_shelf(self, record_id: str) -> ChartShelf:
         """Where a view of ``record_id`` finds its kept charts, once any drawing of them in flight has ended."""
         self.drawer.settle(record_id)

@@ -18,9 +18,11 @@ def report_page(runtime: Runtime, kind: RecordKind, record_id: str, base_url: st
     record = read_record(runtime.audits, kind, record_id)
     source = (record.input_document or {}).get("source")
     body = record_body(kind, record, runtime.settings)
+    if kind is COMPARISONS:  # its one chart is drawn in HTML
+        return HTMLResponse(render_comparison(body, source=source, base_url=base_url))
+    may_draw = runtime.views_may_draw()  # a view that draws nothing leaves any drawing ahead of it to go on
+    charts = {"shelf": runtime.chart_shelf(record.id) if may_draw else runtime.charts, "draw_missing": may_draw}
     if kind is AUDITS:  # an audit shows the chain of revisions it belongs to
         versions = {**chain(runtime.audits, record), "on_delete": chain_on_delete(record.result_document)}
-        return HTMLResponse(render_report(body, source=source, base_url=base_url, shelf=runtime.chart_shelf(record.id),
-                                          chain=versions))
-    return HTMLResponse(RENDERERS[kind.kind](body, source=source, base_url=base_url,
-                                             shelf=runtime.chart_shelf(record.id)))
+        return HTMLResponse(render_report(body, source=source, base_url=base_url, chain=versions, **charts))
+    return HTMLResponse(render_correlation_report(body, source=source, base_url=base_url, **charts))

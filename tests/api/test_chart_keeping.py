@@ -79,6 +79,8 @@ def test_without_drawing_ahead_the_first_view_draws_and_keeps_them_for_every_pro
     client = make_client()  # draw_charts_ahead off
     audit = create(client)
     assert kept.load(audit["id"], CHART_RENDERER) == {}
+    # The verdict timeline joins the record once worked out in the background: both views are to show it.
+    assert client.get(f"/api/v1/audits/{audit['id']}/timeline").status_code == 200
     first = client.get(audit["report_url"])
     assert first.status_code == 200
     assert set(kept.load(audit["id"], CHART_RENDERER)) == set(CHART_NAMES)
@@ -129,3 +131,43 @@ def test_a_correlation_audits_charts_are_kept_too(make_client, kept, monkeypatch
     clear_chart_cache()
     no_drawing(monkeypatch)
     assert client.get(record["report_url"]).status_code == 200
+
+
+def test_under_load_a_report_opens_without_drawing_and_its_charts_come_as_files(client, kept, monkeypatch):
+    """While the compute pool works, a view draws nothing: kept charts are inlined and the rest are images the
+    browser fetches from their addresses (drawn when asked for). Idle again, the view draws and inlines them all."""
+    import asyncio
+    import re
+    import threading
+
+    audit = create(client)
+    partial = draw_charts(audit, AUDIT_CHARTS, ("series",))  # as a drawing that gave way after one chart leaves it
+    kept.keep(audit["id"], CHART_RENDERER, partial)
+    runtime = runtime_of(client)
+    release, started = threading.Event(), threading.Event()
+
+    def busy() -> None:
+        started.set()
+        release.wait(60)
+
+    loop = asyncio.new_event_loop()
+    task = threading.Thread(target=lambda: loop.run_until_complete(runtime.pool.run(busy)))
+    task.start()
+    try:
+        assert started.wait(10) and not runtime.views_may_draw()
+        with monkeypatch.context() as patched:
+            no_drawing(patched)
+            page = client.get(f"/audits/{audit['id']}").text
+        files = re.findall(r'<img class="chart-file" src="([^"]+)"', page)
+        assert sorted(files) == sorted(f"/audits/{audit['id']}/charts/{name}.svg"
+                                       for name in CHART_NAMES if name != "series")
+        assert page.count('id="chart-series-') >= 1 and "<svg" in page
+        drawn = client.get(files[0])  # the file is drawn when the browser asks for it
+        assert drawn.status_code == 200 and drawn.headers["content-type"].startswith("image/svg+xml")
+    finally:
+        release.set()
+        task.join(10)
+        loop.close()
+    clear_chart_cache()
+    idle = client.get(f"/audits/{audit['id']}").text
+    assert 'class="chart-file"' not in idle and idle.count('class="chart-image"') == len(CHART_NAMES)

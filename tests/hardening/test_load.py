@@ -1,9 +1,10 @@
-"""Load: 24 clients for 20 seconds against a real server on loopback, mixing creates, reads, report pages,
+"""Load: 32 clients for 60 seconds against a real server on loopback, mixing creates, reads, report pages,
 chart and CSV downloads.
 
-Every answer must be a success or the deliberate 503 of a full compute pool (with Retry-After); every
-audit acknowledged with 201 must read back the same afterwards; the server's resident memory, sampled
-from /proc twice a second, must level off; and its log must hold no traceback, key or owner token.
+Every answer must be a success or the deliberate 503 of a full compute pool (with Retry-After); report pages
+must open within 2 s for 95% of views (our requirement: before charts were drawn ahead they took a median 8.3 s
+under this load); every audit acknowledged with 201 must read back the same afterwards; the server's resident
+memory, sampled from /proc twice a second, must level off; and its log must hold no traceback, key or owner token.
 """
 
 from __future__ import annotations
@@ -23,10 +24,11 @@ from app.service.timeline import TIMELINE_KEY
 
 from .resources import rss_bytes
 
-pytestmark = pytest.mark.slow  # 20 s of load plus start-up and read-back
+pytestmark = pytest.mark.slow  # 60 s of load plus start-up and read-back
 
-CLIENTS = 24
-SECONDS = 20.0
+CLIENTS = 32
+SECONDS = 60.0
+REPORT_P95_SECONDS = 2.0  # our requirement for report views under this load
 KEY = "load-test-key-0123456789abcdef"
 AUTH = {"Authorization": f"Bearer {KEY}"}
 MIX = (("create", 3), ("read", 2), ("report", 2), ("csv", 2), ("list", 1), ("chart", 1))
@@ -90,6 +92,10 @@ class Run:
                 self.unexpected.append(f"{action} {status}: {response.text[:300]}")
 
 
+def _p95(seconds: list[float]) -> float:
+    return statistics.quantiles(seconds, n=20, method="inclusive")[-1]
+
+
 def _without(document: dict, key: str) -> dict:
     return {k: v for k, v in document.items() if k != key}
 
@@ -135,8 +141,8 @@ def test_mixed_load_answers_everything_keeps_every_audit_and_levels_off_in_memor
     mb = [rss / 2**20 for _, rss in samples]
     quarter = max(len(mb) // 4, 1)
     settled, final = statistics.median(mb[quarter:2 * quarter]), statistics.median(mb[-quarter:])
-    timings = {action: f"median {statistics.median(s) * 1000:.0f} ms, max {max(s) * 1000:.0f} ms"
-               for action, s in run.seconds.items()}
+    timings = {action: f"median {statistics.median(s) * 1000:.0f} ms, p95 {_p95(s) * 1000:.0f} ms, "
+                       f"max {max(s) * 1000:.0f} ms" for action, s in run.seconds.items()}
     print(f"\nload: {sum(run.answers.values())} requests by {CLIENTS} clients in {SECONDS:.0f} s;",
           dict(sorted(run.answers.items())), f"\n{len(run.acknowledged)} audits acknowledged;", timings,
           f"\nRSS MB: start {mb[0]:.0f}, second quarter median {settled:.0f}, last quarter median {final:.0f}, "
@@ -144,6 +150,7 @@ def test_mixed_load_answers_everything_keeps_every_audit_and_levels_off_in_memor
 
     assert not run.unexpected, run.unexpected[:5]
     assert len(run.acknowledged) >= 20
+    assert len(run.seconds["report"]) >= 50 and _p95(run.seconds["report"]) < REPORT_P95_SECONDS, timings["report"]
     assert not lost, f"{len(lost)} acknowledged audits do not read back the same"
     # Level: after warming up (imports, first charts) memory grows by little; the chart cache is bounded.
     assert final - settled < 60, (settled, final)
