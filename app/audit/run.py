@@ -30,7 +30,7 @@ from app.ingest.validate import check_window_in_series
 from app.stats.adjust import Covariate, fit_covariates
 from app.stats.detect import detection_power, years_to_detect
 from app.stats.noise import NoiseModel
-from app.stats.noise_fit import NoiseSelection, fit_noise_ml, select_noise_model
+from app.stats.noise_fit import NoiseSelection, fit_noise_ml, model_innovations, select_noise_model
 from app.stats.nonparam import mann_kendall, sen_slope
 from app.stats.ols import fit_trend
 from app.stats.segment import segment_continuous, segment_discontinuous
@@ -249,7 +249,8 @@ def _decide(series: Series, claim: Claim, options: AuditOptions, complete: bool)
         main = dataclasses.replace(main, mann_kendall_p=float(mk_p))
     tail = claim.tail(main.long_term.slope)
     spell = spell_probability(tr, main.long_term.slope, noise, int(tw.size), float(fit_trend(tw, yw).slope),
-                              direction=tail, n_simulations=options.simulations, rng=rng["spell"])
+                              direction=tail, n_simulations=options.simulations, rng=rng["spell"],
+                              innovations=model_innovations(noise, segment_residuals[in_ref]))
 
     judge = lambda fit, method, disagreeing=(): _judge(claim, fit, tw, yw, method, options,  # noqa: E731
                                                        spell.probability, series, reference.start, disagreeing)

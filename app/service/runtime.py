@@ -69,6 +69,7 @@ class Runtime:
         if self.jobs is not None:
             self.jobs.close()
         self.pool.shutdown()
+        self.timelines.shutdown()
         self.drawer.shutdown()
         self.engine.dispose()
 

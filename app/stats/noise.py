@@ -30,6 +30,7 @@ only when the noise is truly anti-persistent, which trend residuals of climate s
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -346,30 +347,47 @@ def _thetas_from_moments(phi: np.ndarray, rho1: np.ndarray) -> np.ndarray:
     return np.where(np.abs(a) < 1e-12, 0.0, root)
 
 
-def simulate_noise(model: NoiseModel, n: int, size: int, rng: np.random.Generator) -> np.ndarray:
+Shocks = Callable[[tuple[int, int]], np.ndarray]  # draws standardised innovations (mean 0, variance 1) of a shape
+
+
+def simulate_noise(model: NoiseModel, n: int, size: int, rng: np.random.Generator,
+                   shocks: Shocks | None = None) -> np.ndarray:
     """``size`` independent stationary realisations of length ``n``, shape (size, n).
 
     One call to lfilter filters every row at once; AR(1) and AR(2) start from their stationary
-    distribution, ARMA(1,1) after a burn-in long enough for phi^burn to be negligible.
+    distribution, ARMA(1,1) after a burn-in long enough for phi^burn to be negligible. ``shocks`` draws
+    the standardised innovations (Gaussian by default; ``resampled_shocks`` for a residual bootstrap).
     """
+    draw = shocks or rng.standard_normal
     if model.is_white:
-        return rng.standard_normal((size, n)) * model.sigma
+        return draw((size, n)) * model.sigma
     phi, theta = model.phi, model.theta
     if model.phi2 != 0.0:
-        return _simulate_ar2(model, n, size, rng)
+        return _simulate_ar2(model, n, size, draw)
     if theta == 0.0:
-        e = rng.standard_normal((size, n)) * model.sigma
+        e = draw((size, n)) * model.sigma
         e[:, 0] /= np.sqrt(1.0 - phi * phi)
         return lfilter([1.0], [1.0, -phi], e, axis=1)
     burn = int(min(500, np.ceil(np.log(1e-8) / np.log(max(abs(phi), 1e-3)))))
-    e = rng.standard_normal((size, n + burn)) * model.sigma
+    e = draw((size, n + burn)) * model.sigma
     return lfilter([1.0, theta], [1.0, -phi], e, axis=1)[:, burn:]
 
 
-def _simulate_ar2(model: NoiseModel, n: int, size: int, rng: np.random.Generator) -> np.ndarray:
+def resampled_shocks(innovations: np.ndarray, rng: np.random.Generator) -> Shocks:
+    """Draws from the given innovations, standardised, with replacement: the residual bootstrap of an ARMA
+    model (Efron & Tibshirani 1993, section 8.5, from memory), which keeps the innovations' own tails."""
+    z = np.asarray(innovations, dtype=float).ravel()
+    if z.size < 2 or not np.all(np.isfinite(z)) or not np.std(z) > 0:
+        raise InputError("at least two finite, not all equal innovations are needed to resample",
+                         location=Location(field="innovations"), fix="Pass the whitened residuals of a fit")
+    z = (z - z.mean()) / z.std()
+    return lambda shape: z[rng.integers(0, z.size, size=shape)]
+
+
+def _simulate_ar2(model: NoiseModel, n: int, size: int, draw: Shocks) -> np.ndarray:
     """The first two values from their stationary joint normal, the rest by the recursion (lfilter's state)."""
     phi, phi2, rho1, sd = model.phi, model.phi2, model.rho1, model.marginal_sd
-    z = rng.standard_normal((size, n))
+    z = draw((size, n))
     x = np.empty((size, n))
     x[:, 0] = sd * z[:, 0]
     if n > 1:

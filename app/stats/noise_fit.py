@@ -176,6 +176,12 @@ def whiten(kind: str, phi: float, phi2: float, theta: float, rows: np.ndarray) -
     return _whiten_arma11(phi, theta if kind == "arma11" else 0.0, rows)
 
 
+def model_innovations(model: NoiseModel, residuals: np.ndarray) -> np.ndarray:
+    """The residuals whitened under ``model``: its estimated innovations, in units of its sigma."""
+    rows = np.asarray(residuals, dtype=float).reshape(1, -1)
+    return whiten(model.kind, model.phi, model.phi2, model.theta, rows)[0][0]
+
+
 def _whiten_arma11(phi: float, theta: float, rows: np.ndarray) -> tuple[np.ndarray, float]:
     n = rows.shape[1]
     u = rows.copy()

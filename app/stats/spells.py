@@ -20,7 +20,7 @@ import numpy as np
 from scipy.signal import lfilter
 
 from app.errors import InputError, Location
-from app.stats.noise import NoiseModel, simulate_noise
+from app.stats.noise import NoiseModel, Shocks, resampled_shocks, simulate_noise
 from app.stats.windows import check_one_series, check_times, check_window_points, window_slopes
 
 DIRECTIONS = ("low", "high")
@@ -61,13 +61,18 @@ class SpellResult:
 def spell_probability(t: np.ndarray, null_slope: float, noise: NoiseModel, window_points: int,
                       observed_slope: float, direction: str = "low", n_simulations: int = 2000,
                       rng: np.random.Generator | int | None = None,
-                      observed_values: np.ndarray | None = None) -> SpellResult:
+                      observed_values: np.ndarray | None = None,
+                      innovations: np.ndarray | None = None) -> SpellResult:
     """Look-elsewhere probability of a window trend at least as extreme as ``observed_slope``.
 
     ``t`` are the full record's times; ``window_points`` the claimed window's length in points
     (every window of that many consecutive points is a candidate). ``rng`` is a Generator or a
     seed; None draws fresh entropy and is not reproducible. ``observed_values``, when given,
-    are the record's values, used only to count its own windows that are as extreme.
+    are the record's values, used only to count its own windows that are as extreme. ``innovations``,
+    when given (the whitened residuals of the noise fit), are resampled instead of drawing Gaussian shocks:
+    a record's flattest window is an extreme, and heavy-tailed noise makes extremes commoner than Gaussian
+    shocks of the same variance do (measured under AR(1) noise with t(3) innovations, 300 records: with
+    Gaussian shocks the spell probability fell below 5% in 10-18% of null records against our bound of 10%).
 
     ``probability`` is the Monte Carlo p-value (k + 1) / (N + 1), k of N simulated records
     having a window as extreme: it is never reported as zero and is exactly valid as a test
@@ -78,6 +83,7 @@ def spell_probability(t: np.ndarray, null_slope: float, noise: NoiseModel, windo
     _check_spell_options(t.size, window_points, direction, n_simulations, observed_values,
                          (null_slope, observed_slope))
     generator = np.random.default_rng(rng)
+    shocks = resampled_shocks(innovations, generator) if innovations is not None else generator.standard_normal
     sign = 1.0 if direction == "low" else -1.0
     # Threshold and extremes are kept sign-flipped for "high", so one test ("<=") serves both directions.
     threshold = sign * (float(observed_slope) - float(null_slope))
@@ -91,7 +97,7 @@ def spell_probability(t: np.ndarray, null_slope: float, noise: NoiseModel, windo
     done = 0
     while done < n_simulations:
         rows = min(chunk_rows, n_simulations - done)
-        slopes = windows.slopes(_running_sums(noise, t.size, rows, generator))
+        slopes = windows.slopes(_running_sums(noise, t.size, rows, generator, shocks))
         if sign > 0:
             extremes.append(slopes.min(axis=1))
             total_as_extreme += int(np.count_nonzero(slopes <= threshold))
@@ -191,18 +197,20 @@ def _window_differences(running: np.ndarray, length: int, out: np.ndarray) -> No
     np.subtract(running[:, length:], running[:, :out.shape[1] - 1], out=out[:, 1:])
 
 
-def _running_sums(noise: NoiseModel, n: int, rows: int, rng: np.random.Generator) -> np.ndarray:
-    """cumsum(simulate_noise(noise, n, rows, rng), axis=1), drawing the same variates.
+def _running_sums(noise: NoiseModel, n: int, rows: int, rng: np.random.Generator,
+                  shocks: Shocks | None = None) -> np.ndarray:
+    """cumsum(simulate_noise(noise, n, rows, rng, shocks), axis=1), drawing the same variates.
 
     For white and AR(1) noise one filter both makes the noise and sums it: sigma / ((1 - z^-1)(1 - phi z^-1)).
     """
+    shocks = shocks or rng.standard_normal
     if noise.is_white:
-        return lfilter([noise.sigma], [1.0, -1.0], rng.standard_normal((rows, n)), axis=1)
+        return lfilter([noise.sigma], [1.0, -1.0], shocks((rows, n)), axis=1)
     if noise.theta == 0.0 and noise.phi2 == 0.0:
-        e = rng.standard_normal((rows, n))
+        e = shocks((rows, n))
         e[:, 0] /= np.sqrt(1.0 - noise.phi * noise.phi)
         return lfilter([noise.sigma], [1.0, -(1.0 + noise.phi), noise.phi], e, axis=1)
-    return np.cumsum(simulate_noise(noise, n, rows, rng), axis=1)
+    return np.cumsum(simulate_noise(noise, n, rows, rng, shocks), axis=1)
 
 
 def _check_spell_options(n: int, window_points: int, direction: str, n_simulations: int,
