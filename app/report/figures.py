@@ -1,13 +1,14 @@
 """From a matplotlib Figure to an SVG that is safe to inline, or to a PNG.
 
-Figures are built with ``matplotlib.figure.Figure`` directly (no pyplot), so nothing here touches
-global state and rendering is safe in worker threads. User text never goes through TeX or mathtext
-(``text.parse_math`` off), so a title such as ``$\\alpha$`` prints as typed; the SVG writer escapes
+Figures are built with ``matplotlib.figure.Figure`` directly (no pyplot), so nothing here touches global
+state but the house style, set once (``use_house_style``), and rendering is safe in worker threads. User
+text never goes through TeX or mathtext (``text.parse_math`` off), so a title such as ``$\\alpha$`` prints as typed; the SVG writer escapes
 ``<``, ``>`` and ``&``; comments, which echo every text, are dropped before inlining.
 """
 
 from __future__ import annotations
 
+import functools
 import io
 import re
 from xml.sax.saxutils import escape, quoteattr
@@ -80,10 +81,20 @@ MAX_TICKS = 7  # per axis: every tick is several artists to draw
 RIGHT_AXIS_SPACE = 0.65  # a second value axis on the right: its ticks and its label
 
 
+@functools.cache
+def use_house_style() -> None:
+    """Makes the house style this process's matplotlib settings, once, before the first drawing.
+
+    Not ``rc_context`` around each drawing: that saves the process-wide settings and puts them back on the way
+    out, so drawings running together on threads (report views, chart files, cards) undid each other's style
+    mid-drawing, and a card came out with its words as outlines. Nothing else in the process draws."""
+    matplotlib.rcParams.update(STYLE)
+
+
 def new_figure(width: float = 7.0) -> Figure:
     """A figure whose height ``lay_out`` sets once the chart knows its legend and title."""
-    with matplotlib.rc_context(STYLE):
-        return Figure(figsize=(width, 3.0))
+    use_house_style()
+    return Figure(figsize=(width, 3.0))
 
 
 def lay_out(fig: Figure, ax, *, plot_height: float, legend_columns: int = 1, title: str = "",
@@ -142,8 +153,8 @@ def styled(build):
     """Runs a chart builder with the house style, so the rc settings apply to every artist it makes."""
 
     def wrapper(*args, **kwargs):
-        with matplotlib.rc_context(STYLE):
-            return build(*args, **kwargs)
+        use_house_style()
+        return build(*args, **kwargs)
 
     wrapper.__name__ = build.__name__
     wrapper.__doc__ = build.__doc__
@@ -152,8 +163,8 @@ def styled(build):
 
 def _raw_svg(fig: Figure) -> str:
     buffer = io.StringIO()
-    with matplotlib.rc_context(STYLE):
-        fig.savefig(buffer, format="svg", metadata={"Date": None, "Creator": None})
+    use_house_style()
+    fig.savefig(buffer, format="svg", metadata={"Date": None, "Creator": None})
     return buffer.getvalue()
 
 
@@ -225,6 +236,6 @@ def inline_svg(fig: Figure, name: str, title: str, description: str) -> str:
 
 def png_bytes(fig: Figure, dpi: int = PNG_DPI) -> bytes:
     buffer = io.BytesIO()
-    with matplotlib.rc_context(STYLE):
-        fig.savefig(buffer, format="png", dpi=dpi, metadata={"Software": None})
+    use_house_style()
+    fig.savefig(buffer, format="png", dpi=dpi, metadata={"Software": None})
     return buffer.getvalue()

@@ -18,9 +18,8 @@ import time
 import httpx
 import pytest
 
-from api.conftest import invented_series
+from api.conftest import as_read_back, invented_series, without_timeline
 from api.servers import Server
-from app.service.timeline import TIMELINE_KEY
 
 from .resources import rss_bytes
 
@@ -96,10 +95,6 @@ def _p95(seconds: list[float]) -> float:
     return statistics.quantiles(seconds, n=20, method="inclusive")[-1]
 
 
-def _without(document: dict, key: str) -> dict:
-    return {k: v for k, v in document.items() if k != key}
-
-
 def _sample_memory(pid: int, stop: threading.Event, samples: list[tuple[float, int]]) -> None:
     started = time.monotonic()
     while not stop.is_set():
@@ -130,8 +125,7 @@ def test_mixed_load_answers_everything_keeps_every_audit_and_levels_off_in_memor
             # The verdict timeline is worked out after the audit is stored and joins its document then;
             # everything acknowledged must read back unchanged beside it.
             lost = [audit_id for audit_id, body in run.acknowledged.items()
-                    if _without(http.get(f"/api/v1/audits/{audit_id}").json(), TIMELINE_KEY)
-                    != _without(body, "owner_token")]
+                    if without_timeline(http.get(f"/api/v1/audits/{audit_id}").json()) != as_read_back(body)]
         log = server.log()
     finally:
         run.stop.set()

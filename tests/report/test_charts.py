@@ -200,3 +200,31 @@ def test_the_sensitivity_scale_is_set_by_the_windows_near_the_claim():
     trends = np.concatenate([np.linspace(0.9, 1.1, 98), [40.0, -35.0]])  # two short windows' wild trends
     low, high = sensitivity_limits(np.sort(trends), 50, (0.8, 1.2))
     assert -0.5 < low < 0.8 and 1.2 < high < 2.0
+
+
+def test_drawings_on_many_threads_at_once_all_keep_the_house_style(document):
+    """matplotlib's rc_context saves and restores the process-wide settings, so drawings running together on
+    threads (report views, chart files and cards) could undo each other's style mid-drawing: a card then came
+    out with its words as outlines, no text left. Every drawing here must keep its text as text."""
+    from app.report.card import card_svg
+    from app.report.sharing import audit_card_face, card_alt_text
+
+    face = audit_card_face("card-race", "Has it stopped?", document, "https://audit.example.net/audits/x")
+    alt = card_alt_text(face, document)
+    start = threading.Barrier(4)
+    drawn: list[str] = []
+
+    def draw(number: int) -> None:
+        start.wait()
+        for _ in range(6):
+            drawn.append(card_svg(face, alt) if number % 2 else labelled_svg(
+                CHARTS["series"].build(document), "series", "t", "d"))
+
+    threads = [threading.Thread(target=draw, args=(number,)) for number in range(4)]
+    for thread in threads:
+        thread.start()
+    for thread in threads:
+        thread.join()
+    assert len(drawn) == 24
+    without_text = [svg[:80] for svg in drawn if "<text" not in svg or "DejaVu Sans" not in svg]
+    assert not without_text
