@@ -16,7 +16,7 @@ from matplotlib.patches import Rectangle
 
 from app.report import palette
 from app.report.charts import broken_at_gaps
-from app.report.figures import labelled_svg, png_bytes, styled
+from app.report.figures import drawing_slots, labelled_svg, png_bytes, styled
 from app.errors import Location, NotFound
 from app.report.chart_cache import kept
 from app.report.sharing import (CARD_SIZES, SOFTWARE_NAME, CardFace, audit_card_face, card_alt_text,
@@ -129,6 +129,7 @@ def card_file(kind: str, record_id: str, title: str, document: dict, permalink: 
         alt = card_alt_text(face, document)
         if fmt == "txt":
             return alt + "\n"
-        return card_svg(face, alt, shape) if fmt == "svg" else card_png(face, shape)
+        with drawing_slots():
+            return card_svg(face, alt, shape) if fmt == "svg" else card_png(face, shape)
 
     return kept(("card", kind, record_id, permalink, shape, fmt), make)

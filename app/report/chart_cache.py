@@ -30,7 +30,7 @@ from markupsafe import Markup
 from app import __version__
 from app.errors import Location, NotFound
 from app.report.chart_sets import AUDIT_CHARTS, ChartSet
-from app.report.figures import as_inline, as_standalone, labelled_svg, png_bytes
+from app.report.figures import as_inline, as_standalone, drawing_slots, labelled_svg, png_bytes
 
 # Bump when a chart's drawing changes without a release, so kept charts are drawn again.
 CHART_REVISION = 3
@@ -156,7 +156,8 @@ def draw_charts(document: dict[str, Any], charts: ChartSet = AUDIT_CHARTS,
     drawn = {}
     for name in charts.names(document) if names is None else names:
         spec = charts.specs[name]
-        drawn[name] = labelled_svg(spec.build(document), name, spec.title(document), spec.description(document))
+        with drawing_slots():
+            drawn[name] = labelled_svg(spec.build(document), name, spec.title(document), spec.description(document))
     return drawn
 
 
@@ -212,7 +213,8 @@ def chart_file(record_id: str, document: dict[str, Any], name: str, fmt: str,
     if cached is not None:
         return cached
     if fmt == "png":
-        result: bytes | str = png_bytes(charts.specs[name].build(document))
+        with drawing_slots():
+            result: bytes | str = png_bytes(charts.specs[name].build(document))
     else:
         labelled = _labelled_chart(record_id, document, name, charts, shelf)
         result = as_inline(labelled) if fmt == "inline" else as_standalone(labelled)

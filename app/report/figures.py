@@ -11,6 +11,7 @@ from __future__ import annotations
 import functools
 import io
 import re
+import threading
 from xml.sax.saxutils import escape, quoteattr
 
 import matplotlib
@@ -89,6 +90,18 @@ def use_house_style() -> None:
     out, so drawings running together on threads (report views, chart files, cards) undid each other's style
     mid-drawing, and a card came out with its words as outlines. Nothing else in the process draws."""
     matplotlib.rcParams.update(STYLE)
+
+
+# Drawings allowed to run at once in this process. Matplotlib holds the GIL while it draws, so more threads
+# drawing together finish no sooner; each one in flight holds its figure and renderer (tens of MB for a long
+# record), and under 32 clients asking for chart files the server's memory stepped up by 80 MB and stayed there.
+DRAWINGS_AT_ONCE = 2
+
+
+@functools.cache
+def drawing_slots() -> threading.BoundedSemaphore:
+    """The process's drawing slots: every chart or card is built and rendered holding one (``with``)."""
+    return threading.BoundedSemaphore(DRAWINGS_AT_ONCE)
 
 
 def new_figure(width: float = 7.0) -> Figure:

@@ -228,3 +228,41 @@ def test_drawings_on_many_threads_at_once_all_keep_the_house_style(document):
     assert len(drawn) == 24
     without_text = [svg[:80] for svg in drawn if "<text" not in svg or "DejaVu Sans" not in svg]
     assert not without_text
+
+
+def test_chart_files_asked_for_together_draw_at_most_two_at_a_time(document, monkeypatch):
+    """Each drawing in flight holds its figure and renderer; under 32 clients asking for chart files the
+    server's memory stepped up by 80 MB and stayed there, with no drawing finished any sooner (matplotlib holds
+    the GIL). Eight files of eight records asked for at once must be drawn at most DRAWINGS_AT_ONCE at a time."""
+    from app.report.figures import DRAWINGS_AT_ONCE
+
+    chart_cache.clear_chart_cache()
+    crowd = threading.Condition()
+    inside = [0]
+    most = [0]
+    label = chart_cache.labelled_svg
+
+    def watched_label(*args):
+        with crowd:
+            inside[0] += 1
+            most[0] = max(most[0], inside[0])
+            crowd.notify_all()
+            # Waits (briefly) for a drawing beyond the allowed number to join: it comes at once if unbounded.
+            crowd.wait_for(lambda: inside[0] > DRAWINGS_AT_ONCE, timeout=0.3)
+        try:
+            return label(*args)
+        finally:
+            with crowd:
+                inside[0] -= 1
+
+    monkeypatch.setattr(chart_cache, "labelled_svg", watched_label)
+    files: list[str] = []
+    threads = [threading.Thread(target=lambda n=n: files.append(chart_file(f"crowd-{n}", document, "series", "svg")))
+               for n in range(8)]
+    for thread in threads:
+        thread.start()
+    for thread in threads:
+        thread.join()
+    chart_cache.clear_chart_cache()
+    assert len(files) == 8 and all("<svg" in svg for svg in files)
+    assert most[0] == DRAWINGS_AT_ONCE
