@@ -168,10 +168,27 @@ def format_range(lo: float, hi: float, factor: float, unit: str, units: str = ""
     return f"{format_rate(lo, factor, '', '', figures)} to {format_rate(hi, factor, unit, units, figures)}"
 
 
-def format_p(p: float) -> str:
+# The levels a p-value is read against when the sentence does not say (alpha at 99%, 95% and 90% confidence).
+USUAL_ALPHAS = (0.01, 0.05, 0.1)
+
+
+def format_p(p: float, alpha: float | None = None) -> str:
+    """Three decimals, or as many more as keep the written value on the same side of alpha as the p-value itself:
+    an adjusted p of 0.0503 written "0.050" beside "the data do not show a change" at alpha 0.05 reads as a
+    contradiction. Without ``alpha`` the usual levels are kept apart the same way."""
     if p is None or not math.isfinite(p):
         return "p undetermined"
-    return "p < 0.001" if p < 0.001 else f"p = {p:.3f}"
+    if p < 0.001:
+        return "p < 0.001"
+    levels = USUAL_ALPHAS if alpha is None else (alpha,)
+    digits = 3
+    while digits < 7 and any(_sides_differ(p, round(p, digits), level) for level in levels):
+        digits += 1
+    return f"p = {p:.{digits}f}"
+
+
+def _sides_differ(p: float, written: float, level: float) -> bool:
+    return (p < level) != (written < level) or (written == level) != (p == level)
 
 
 def format_probability(p: float) -> str:
@@ -270,9 +287,9 @@ def _comparison(v: VerdictInputs) -> str:
     """How the window's trend stands against the long-term one, in words its p-values justify."""
     lt_text = _long_text(v)
     if v.window_weaker:
-        return f"significantly flatter than {lt_text} ({format_p(v.window_p_weaker)})"
+        return f"significantly flatter than {lt_text} ({format_p(v.window_p_weaker, v.alpha)})"
     if v.window_stronger:
-        return f"significantly steeper than {lt_text} ({format_p(v.window_p_stronger)})"
+        return f"significantly steeper than {lt_text} ({format_p(v.window_p_stronger, v.alpha)})"
     return f"not significantly different from {lt_text}"
 
 
@@ -311,18 +328,18 @@ def decide(v: VerdictInputs) -> Verdict:
     if code == NO_TREND:
         headline = f"No clear long-term trend to have {_article(noun)} {noun}: the claim's framing does not apply"
         summary = (f"Over the reference period the series shows no trend distinguishable from its natural variability "
-                   f"({_rate(v, v.long_term_slope)}, {format_p(v.long_term_p)}). Talk of {_article(noun)} {noun} "
+                   f"({_rate(v, v.long_term_slope)}, {format_p(v.long_term_p, v.alpha)}). Talk of {_article(noun)} {noun} "
                    f"presumes a trend to begin with; these data do not establish one, so the claim can be neither "
                    f"confirmed nor refuted this way.")
     elif code == CONTRADICTED:
         if v.kind == "acceleration":
             headline = f"The data point the other way: the trend from {span} appears slower, not faster"
             summary = (f"During the claimed {noun}, {window_text}, significantly flatter than {long_text} "
-                       f"({format_p(v.window_p_weaker)}). The data do not support an acceleration over this window.")
+                       f"({format_p(v.window_p_weaker, v.alpha)}). The data do not support an acceleration over this window.")
         else:
             headline = f"The series kept {direction_word(v.trend_sign)} during the claimed {noun}"
             summary = (f"Rather than {_article(noun)} {noun}, {window_text}: a significant trend in the same direction as "
-                       f"{long_text} ({format_p(v.window_p_vs_zero)} against no trend). The window chosen by the claim "
+                       f"{long_text} ({format_p(v.window_p_vs_zero, v.alpha)} against no trend). The window chosen by the claim "
                        f"itself appears to contradict it.")
     elif code == LEVEL_SHIFT:
         headline = (f"A jump in level around {v.step_label}, rather than a change in trend, appears to explain "
@@ -331,7 +348,7 @@ def decide(v: VerdictInputs) -> Verdict:
                    f"{format_number(v.step_size, signed=True)} {v.units}".rstrip() +
                    f" around {v.step_label}, with the trend unchanged, explains the data at least as well as a "
                    f"change of slope in the window, and it stands out even allowing for the search over dates "
-                   f"(adjusted {format_p(v.step_p_adjusted)}). A step may come from a change of instrument, site "
+                   f"(adjusted {format_p(v.step_p_adjusted, v.alpha)}). A step may come from a change of instrument, site "
                    f"or method as well as from a real event: check the data's history before reading it as a "
                    f"change in trend.")
     elif code in (CHANGE_SUPPORTED, MODEL_DEPENDENT):
@@ -341,7 +358,7 @@ def decide(v: VerdictInputs) -> Verdict:
                     f"modelled")
         summary = (f"{_capital(window_text)}, {_comparison(v)}. A test of a change of slope at the window's "
                    f"boundaries remains significant after allowing for the freedom to pick both ends "
-                   f"(adjusted {format_p(v.change_p_adjusted)}).")
+                   f"(adjusted {format_p(v.change_p_adjusted, v.alpha)}).")
         if code == MODEL_DEPENDENT:
             summary += (" Under " + ", ".join(v.disagreeing_models) + " noise, which fits these data about as well, "
                         "the test is not significant, so the change is not clearly established.")
@@ -350,7 +367,7 @@ def decide(v: VerdictInputs) -> Verdict:
         shown = what_the_window_shows(v)
         headline = f"The trend {shown} around {v.start_label}, but the data do not show {_article(noun)} {noun}"
         summary = (f"{_capital(window_text)}, {_comparison(v)}. A change of slope at the window's boundaries is "
-                   f"significant even allowing for the chosen window (adjusted {format_p(v.change_p_adjusted)}), "
+                   f"significant even allowing for the chosen window (adjusted {format_p(v.change_p_adjusted, v.alpha)}), "
                    f"but what the window shows is not what was claimed. {_claim_requirement(v)}")
     elif code == TOO_SHORT:
         need = (f"about {_years(v.years_to_detect)} years" if math.isfinite(v.years_to_detect)
@@ -359,22 +376,22 @@ def decide(v: VerdictInputs) -> Verdict:
         summary = (f"{_capital(window_text)}, while {long_text} would need {need} of data to be detected nine times "
                    f"in ten against this series' year-to-year variability. A window this short can look flat, or "
                    f"steep, by chance alone; the data do not show a change in trend "
-                   f"(adjusted {format_p(v.change_p_adjusted)}).")
+                   f"(adjusted {format_p(v.change_p_adjusted, v.alpha)}).")
     else:
         headline = f"The {years}-year spell is consistent with the long-term trend continuing"
         summary = (f"{_capital(window_text)}, against {long_text}. {_spell_sentence(v)} The test of a change of "
                    f"slope at the window's boundaries, allowing for the choice of window, is not significant "
-                   f"(adjusted {format_p(v.change_p_adjusted)}): the data do not show that the trend changed, "
+                   f"(adjusted {format_p(v.change_p_adjusted, v.alpha)}): the data do not show that the trend changed, "
                    f"though a smaller change could go unseen.")
 
     reasons = (
-        f"Long-term trend over the reference period: {_rate(v, v.long_term_slope)} ({format_p(v.long_term_p)}).",
-        f"Window trend: {_capital(window_text)} ({format_p(v.window_p_vs_zero)} against no trend).",
+        f"Long-term trend over the reference period: {_rate(v, v.long_term_slope)} ({format_p(v.long_term_p, v.alpha)}).",
+        f"Window trend: {_capital(window_text)} ({format_p(v.window_p_vs_zero, v.alpha)} against no trend).",
         f"Window against the long-term trend: one-sided "
-        f"{format_p(v.window_p_weaker if v.kind != 'acceleration' else v.window_p_stronger)} "
+        f"{format_p(v.window_p_weaker if v.kind != 'acceleration' else v.window_p_stronger, v.alpha)} "
         f"in the claimed direction, before allowing for the choice of window.",
-        f"Change of slope at the window's boundaries: {format_p(v.change_p_nominal)} for that window alone, "
-        f"{format_p(v.change_p_adjusted)} once both ends are treated as chosen.",
+        f"Change of slope at the window's boundaries: {format_p(v.change_p_nominal, v.alpha)} for that window alone, "
+        f"{format_p(v.change_p_adjusted, v.alpha)} once both ends are treated as chosen.",
         f"Chance of a window this extreme somewhere in a record this long, with no change in trend: "
         f"{format_probability(v.spell_probability)}.",
         f"Years of data needed to detect the long-term trend nine times in ten: {_years(v.years_to_detect)}; "
@@ -394,7 +411,7 @@ def _spell_sentence(v: VerdictInputs) -> str:
 
 def _claim_requirement(v: VerdictInputs) -> str:
     """Why the window does not show the claimed kind, with the p-value each statement rests on."""
-    weaker, zero, stronger = (format_p(p) for p in (v.window_p_weaker, v.window_p_vs_zero, v.window_p_stronger))
+    weaker, zero, stronger = (format_p(p, v.alpha) for p in (v.window_p_weaker, v.window_p_vs_zero, v.window_p_stronger))
     if v.kind == "pause":
         if not v.window_weaker:
             return f"The window's trend is not significantly flatter than the long-term one ({weaker})."

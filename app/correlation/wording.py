@@ -17,6 +17,7 @@ show that the driver causes the response.
 
 from __future__ import annotations
 
+from app.audit.verdict import format_p
 from app.correlation.result import CorrelationVerdict
 from app.stats.correlate import WEAK_R, CorrelationNull, CorrelationSet, DriverRegression, RollingCorrelation
 from app.vocabulary import NO_CLEAR_LINK, WEAK_WINDOWS_EXPECTED, WEAK_WINDOWS_UNUSUAL, WINDOWS_AGREE
@@ -60,7 +61,7 @@ def decide(reg: DriverRegression, rolling: RollingCorrelation, null: Correlation
     period = f"Over {start} to {end}"
     null_text = (f"when a response follows this relationship exactly, with noise like the data's, the share is "
                  f"{_pct(lo)} to {_pct(hi)} in 90% of {null.n_simulations} simulations")
-    reasons = (f"full-record slope p = {reg.p_value:.3g}",
+    reasons = (f"full-record slope {format_p(reg.p_value, alpha)}",
                f"{_pct(weak)} of {windows} windows of {window_years:g} years have r below {WEAK_R:g}",
                f"null share of weak windows: mean {_pct(null.share_below_half_mean)}, 90% band {_pct(lo)} to {_pct(hi)}",
                f"chance under the null of as many weak windows: {null.probability_share:.3g}",

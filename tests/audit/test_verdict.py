@@ -17,6 +17,7 @@ from app.audit.verdict import (
     VerdictInputs,
     decide,
     decide_code,
+    format_p,
     format_probability,
     format_range,
     format_rate,
@@ -120,6 +121,26 @@ def test_probabilities_never_read_zero_or_certain():
     assert format_probability(0.004) == "0.4%"
     assert format_probability(0.25) == "25%"
     assert format_probability(0.9996) == "over 99.9%"
+
+
+@pytest.mark.parametrize("p, alpha, text", [
+    (0.0503, 0.05, "p = 0.0503"),  # found by the consistency run: written "0.050" beside "do not show a change"
+    (0.04996, 0.05, "p = 0.04996"),
+    (0.05, 0.05, "p = 0.050"),
+    (0.123, 0.05, "p = 0.123"),
+    (0.1004, 0.1, "p = 0.1004"),
+    (0.1234, 0.1234, "p = 0.1234"),
+    (0.12339, 0.1234, "p = 0.123"),  # already on its side at three decimals
+    (0.0101, None, "p = 0.0101"),  # no alpha given: the usual levels are kept apart
+    (0.0004, 0.05, "p < 0.001"),
+])
+def test_a_written_p_value_stays_on_its_side_of_alpha(p, alpha, text):
+    assert format_p(p, alpha) == text
+
+
+def test_a_p_value_just_above_alpha_is_not_written_as_alpha_in_the_verdict():
+    text = decide(case(change_p_adjusted=0.0503)).summary
+    assert "0.0503" in text and "p = 0.050)" not in text
 
 
 @pytest.mark.parametrize("n, text", [(1, "1st"), (2, "2nd"), (3, "3rd"), (4, "4th"), (11, "11th"), (12, "12th"),
